@@ -1,0 +1,36 @@
+"""arealaw: ground-state entanglement of large lattices of coupled harmonic oscillators.
+
+The pipeline runs one way: network (V, M) → correlators (X_A, P_A) → symplectic spectrum →
+measures (entropies, mutual information) → sweeps and stores → command line.
+
+Examples
+--------
+>>> import arealaw
+>>> net = arealaw.hypercubic((8, 8), mass=0.2)
+>>> res = arealaw.entropy(net, arealaw.box(net, 4), renyi=[2])
+>>> res.entropy > res.renyi["2"] > 0
+True
+"""
+
+from ._entropy import EntropyResult, entropy, logarithmic_negativity
+from ._errors import ConvergenceError, InsufficientMemoryError, UnsupportedMethodError
+from ._lattices import HypercubicLattice, hypercubic
+from ._measures import (entanglement_energies, entropy_error_bound, mode_entropy,
+                        mutual_information, renyi_entropy, von_neumann_entropy)
+from ._methods import choose_method, method_names
+from ._network import OscillatorNetwork, load_network
+from ._regions import (Region, ball, box, complement, difference, from_mask, from_sites,
+                       half_space, intersection, slab, union)
+from ._spectrum import SymplecticSpectrum, Tail, combine_spectra, symplectic_spectrum
+
+__version__ = "0.1.0"
+
+__all__ = sorted([
+    "ConvergenceError", "EntropyResult", "HypercubicLattice", "InsufficientMemoryError",
+    "OscillatorNetwork", "Region", "SymplecticSpectrum", "Tail", "UnsupportedMethodError",
+    "ball", "box", "choose_method", "combine_spectra", "complement", "difference",
+    "entanglement_energies", "entropy", "entropy_error_bound", "from_mask", "from_sites",
+    "half_space", "hypercubic", "intersection", "load_network", "logarithmic_negativity",
+    "method_names", "mode_entropy", "mutual_information", "renyi_entropy", "slab", "union",
+    "von_neumann_entropy",
+])

@@ -1,0 +1,229 @@
+"""Hypercubic lattice builders: the lattice-regularised free scalar field, V = -Δ + m²."""
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+
+from ._network import OscillatorNetwork
+
+__all__ = ["BOUNDARIES", "HypercubicLattice", "hypercubic"]
+
+BOUNDARIES = ("dirichlet", "periodic", "open")
+
+
+@dataclass(frozen=True)
+class HypercubicLattice:
+    """Description of a hypercubic lattice (what :func:`hypercubic` built).
+
+    ``shape`` entries are ints or ``math.inf``; ``mass`` is a float, or an array of per-site masses
+    when the lattice is not uniform; ``inertia`` is the diagonal of M (float or per-site array).
+    """
+
+    shape: tuple
+    mass: object
+    couplings: tuple
+    boundaries: tuple
+    inertia: object = 1.0
+    mass_disorder: float = 0.0
+    coupling_disorder: float = 0.0
+    seed: object = None
+    extra: dict = field(default_factory=dict, compare=False)
+
+    @property
+    def is_infinite(self):
+        return any(math.isinf(n) for n in self.shape)
+
+    @property
+    def is_uniform(self):
+        """True when translation-invariant up to boundaries: scalar mass, no disorder, M = c·I."""
+        return (
+            np.ndim(self.mass) == 0
+            and np.ndim(self.inertia) == 0
+            and self.mass_disorder == 0
+            and self.coupling_disorder == 0
+        )
+
+    def describe(self):
+        shape = "x".join("inf" if math.isinf(n) else str(int(n)) for n in self.shape)
+        mass = f"m={self.mass:g}" if np.ndim(self.mass) == 0 else "per-site masses"
+        bnd = ",".join(self.boundaries) if len(set(self.boundaries)) > 1 else self.boundaries[0]
+        parts = [shape, mass, bnd]
+        if len(set(self.couplings)) > 1 or self.couplings[0] != 1.0:
+            parts.append("J=" + ",".join(f"{j:g}" for j in self.couplings))
+        if self.mass_disorder or self.coupling_disorder:
+            parts.append(f"disorder(m={self.mass_disorder:g},J={self.coupling_disorder:g},"
+                         f"seed={self.seed})")
+        if np.ndim(self.inertia) != 0 or self.inertia != 1.0:
+            parts.append("unequal inertia" if np.ndim(self.inertia) else f"M={self.inertia:g}")
+        return " ".join(parts)
+
+
+def _per_axis(value, d, name, cast):
+    vals = np.atleast_1d(np.asarray(value, dtype=object))
+    if vals.size == 1:
+        vals = np.repeat(vals, d)
+    if vals.size != d:
+        raise ValueError(f"{name} has {vals.size} values but the lattice has {d} axes; "
+                         f"give one value or one per axis")
+    return tuple(cast(v) for v in vals)
+
+
+def _parse_extent(n):
+    if isinstance(n, str) and n.strip().lower() in ("inf", "infinite", "infinity"):
+        return math.inf
+    if isinstance(n, float) and math.isinf(n):
+        return math.inf
+    try:
+        k = int(n)
+    except (TypeError, ValueError):
+        raise ValueError(f"shape entry {n!r} is not a positive integer or 'inf'") from None
+    if k != n and not isinstance(n, str) or k < 1:
+        raise ValueError(f"shape entry {n!r} is not a positive integer or 'inf'")
+    return k
+
+
+def _boundary(b):
+    b = str(b).lower()
+    if b not in BOUNDARIES:
+        raise ValueError(f"boundary {b!r} is not one of {', '.join(BOUNDARIES)}")
+    return b
+
+
+def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1.0,
+               mass_disorder=0.0, coupling_disorder=0.0, seed=None):
+    """Build the nearest-neighbour hypercubic lattice V = Σ m_i² q_i² + Σ_bonds J (q_i − q_j)².
+
+    Parameters
+    ----------
+    shape : sequence of int or 'inf'
+        Sites per axis (d = len(shape), 1 ≤ d ≤ 3).  An infinite axis is only served by the exact
+        spectral method; V is then not formed.
+    mass : float or array_like
+        Field mass m ≥ 0, or an array of per-site masses with ``shape``.
+    coupling : float or sequence of float
+        Nearest-neighbour coupling J > 0, one value or one per axis (anisotropy).
+    boundary : str or sequence of str
+        ``'dirichlet'`` (fixed walls beyond both ends), ``'periodic'``, or ``'open'`` (free ends),
+        one value or one per axis.  Ignored for infinite axes.
+    inertia : float or array_like
+        Diagonal kinetic matrix M (oscillator masses), one value or one per site.
+    mass_disorder, coupling_disorder : float
+        Seeded disorder: m_i = m + w·u_i with u_i ~ U(0, 1); J_bond = J·(1 + w·u), u ~ U(−1, 1),
+        0 ≤ w < 1.
+    seed : int, optional
+        Seed of the disorder (``numpy.random.default_rng``).
+
+    Returns
+    -------
+    OscillatorNetwork
+        Sites in C order: the flat index of coordinate (x_0, ..., x_{d-1}) is
+        ``numpy.ravel_multi_index(x, shape)`` (last axis fastest).  Coordinates are 0-based.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic
+    >>> net = hypercubic((4, 3), mass=0.5, boundary=("dirichlet", "periodic"))
+    >>> net.n_sites, net.potential[0, 0]
+    (12, 4.25)
+    """
+    if isinstance(shape, (int, np.integer, str)):
+        shape = (shape,)
+    shape = tuple(_parse_extent(n) for n in shape)
+    d = len(shape)
+    if not 1 <= d <= 3:
+        raise ValueError(f"shape {shape} has {d} axes; hypercubic lattices have 1, 2 or 3")
+    couplings = _per_axis(coupling, d, "coupling", float)
+    for j in couplings:
+        if not (j > 0 and math.isfinite(j)):
+            raise ValueError(f"coupling {j!r} must be a positive finite number")
+    boundaries = _per_axis(boundary, d, "boundary", _boundary)
+    boundaries = tuple("infinite" if math.isinf(n) else b for n, b in zip(shape, boundaries))
+    for w, name in ((mass_disorder, "mass_disorder"), (coupling_disorder, "coupling_disorder")):
+        if not (0 <= w < 1):
+            raise ValueError(f"{name}={w!r} must satisfy 0 <= w < 1")
+    infinite = any(math.isinf(n) for n in shape)
+    if infinite and (np.ndim(mass) or np.ndim(inertia) or mass_disorder or coupling_disorder):
+        raise ValueError("an infinite lattice must be uniform: scalar mass and inertia, no disorder")
+    n_sites = None if infinite else int(np.prod(shape))
+    masses = _site_values(mass, shape, n_sites, "mass", allow_zero=True)
+    inertias = _site_values(inertia, shape, n_sites, "inertia", allow_zero=False)
+    rng = np.random.default_rng(seed)
+    if mass_disorder:
+        masses = np.broadcast_to(masses, (n_sites,)) + mass_disorder * rng.random(n_sites)
+    _check_zero_mode(masses, boundaries, shape)
+    spec = HypercubicLattice(
+        shape=shape, mass=masses if np.ndim(masses) else float(masses), couplings=couplings,
+        boundaries=boundaries, inertia=inertias if np.ndim(inertias) else float(inertias),
+        mass_disorder=float(mass_disorder), coupling_disorder=float(coupling_disorder), seed=seed,
+    )
+    if infinite:
+        return OscillatorNetwork(None, lattice=spec, check=False)
+    v = _assemble(shape, masses, couplings, boundaries, coupling_disorder, rng)
+    kinetic = None if np.ndim(inertias) == 0 and inertias == 1.0 else sp.diags(
+        np.broadcast_to(inertias, (n_sites,)).astype(float), format="csr")
+    return OscillatorNetwork(v, kinetic, lattice=spec, check=False)
+
+
+def _site_values(value, shape, n_sites, name, *, allow_zero):
+    arr = np.asarray(value, dtype=float)
+    if arr.ndim:
+        if n_sites is None or arr.size != n_sites:
+            raise ValueError(f"{name} array has shape {arr.shape}; give one number or one value "
+                             f"per site (shape {shape})")
+        arr = arr.ravel()
+    if not np.all(np.isfinite(arr)) or np.any(arr < 0) or (not allow_zero and np.any(arr == 0)):
+        bad = arr if arr.ndim == 0 else arr[~(np.isfinite(arr) & (arr > (-1 if allow_zero else 0)))]
+        bound = ">= 0" if allow_zero else "> 0"
+        raise ValueError(f"{name} must be finite and {bound}, got {np.ravel(bad)[:3].tolist() or arr}")
+    return arr if arr.ndim else float(arr)
+
+
+def _check_zero_mode(masses, boundaries, shape):
+    if np.any(np.asarray(masses) > 0) or "dirichlet" in boundaries:
+        return
+    n_inf = sum(math.isinf(n) for n in shape)
+    if n_inf == len(shape) and n_inf >= 3:
+        return  # the massless infinite 3-D lattice has finite correlators
+    kinds = "/".join(sorted({b for b in boundaries}))
+    raise ValueError(
+        f"a massless lattice with {kinds} boundaries has a zero mode and no normalisable ground "
+        "state (divergent <q q>); give a mass > 0, use Dirichlet walls, or an infinite 3-D lattice"
+    )
+
+
+def _assemble(shape, masses, couplings, boundaries, coupling_disorder, rng):
+    n = int(np.prod(shape))
+    idx = np.arange(n).reshape(shape)
+    rows, cols, vals = [], [], []
+    diag = np.zeros(n) + np.asarray(masses) ** 2
+    for axis, (length, j, b) in enumerate(zip(shape, couplings, boundaries)):
+        if b == "periodic" and length > 1:
+            a = idx.ravel()
+            c = np.roll(idx, -1, axis=axis).ravel()
+            if length == 2:  # two sites on a ring: one pair, bonded twice
+                keep = np.take(idx, [0], axis=axis).ravel()
+                a, c = keep, np.take(idx, [1], axis=axis).ravel()
+                jb = 2 * j * np.ones(a.size)
+            else:
+                jb = j * np.ones(a.size)
+        else:
+            a = np.take(idx, np.arange(length - 1), axis=axis).ravel()
+            c = np.take(idx, np.arange(1, length), axis=axis).ravel()
+            jb = j * np.ones(a.size)
+        if coupling_disorder and a.size:
+            jb = jb * (1 + coupling_disorder * rng.uniform(-1, 1, a.size))
+        np.add.at(diag, a, jb)
+        np.add.at(diag, c, jb)
+        rows += [a, c]
+        cols += [c, a]
+        vals += [-jb, -jb]
+        if b == "dirichlet":  # walls beyond both ends pin a bond of strength J to each end site
+            ends = np.take(idx, [0, length - 1], axis=axis).ravel() if length > 1 else idx.ravel()
+            np.add.at(diag, ends, j if length > 1 else 2 * j)
+    rows.append(np.arange(n))
+    cols.append(np.arange(n))
+    vals.append(diag)
+    return sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                         shape=(n, n))

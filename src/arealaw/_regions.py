@@ -1,0 +1,231 @@
+"""Regions: sorted sets of site indices with a human description."""
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+__all__ = [
+    "Region", "ball", "box", "complement", "difference", "from_mask", "from_sites",
+    "half_space", "intersection", "slab", "union",
+]
+
+
+@dataclass(frozen=True, eq=False)
+class Region:
+    """A set of sites of a network: sorted unique flat indices and a description.
+
+    Build regions with :func:`box`, :func:`ball`, :func:`half_space`, :func:`slab`,
+    :func:`from_mask`, :func:`from_sites` and combine them with :func:`union`,
+    :func:`intersection`, :func:`difference`, :func:`complement`.  ``geometry`` records how a
+    region was built (kind and parameters), so symmetry-reduced methods can recognise it.
+    """
+
+    indices: np.ndarray
+    description: str
+    geometry: tuple = ()
+
+    @property
+    def size(self):
+        return int(self.indices.size)
+
+    def __len__(self):
+        return self.size
+
+    def __eq__(self, other):
+        return isinstance(other, Region) and np.array_equal(self.indices, other.indices)
+
+    def __hash__(self):
+        return hash(self.indices.tobytes())
+
+    def __repr__(self):
+        return f"Region({self.description}, {self.size} sites)"
+
+
+def _make(network, indices, description, geometry=(), *, allow_empty=False):
+    idx = np.asarray(indices)
+    if idx.size and not np.issubdtype(idx.dtype, np.integer):
+        if not np.all(np.mod(idx, 1) == 0):
+            raise ValueError(f"site indices must be integers, got e.g. {idx.ravel()[0]!r}")
+    idx = idx.astype(np.int64).ravel()
+    if idx.size == 0 and not allow_empty:
+        raise ValueError(f"region {description} contains no sites; enlarge or move it")
+    limit = network.index_limit
+    bad = idx[(idx < 0) | (idx >= limit)]
+    if bad.size:
+        raise ValueError(f"site index {int(bad[0])} is out of range for a network of "
+                         f"{limit} sites (valid: 0..{limit - 1})")
+    uniq = np.unique(idx)
+    if uniq.size != idx.size:
+        vals, counts = np.unique(idx, return_counts=True)
+        raise ValueError(f"site {int(vals[counts > 1][0])} appears more than once in region "
+                         f"{description}; list each site once")
+    return Region(uniq, description, geometry)
+
+
+def _lattice_shape(network, what):
+    shape = network.index_shape
+    if shape is None:
+        raise ValueError(f"a {what} region needs a hypercubic lattice; for other networks use "
+                         "from_sites / from_mask (or ball with site coordinates)")
+    return shape
+
+
+def _vector(value, d, name):
+    v = np.atleast_1d(np.asarray(value, dtype=float))
+    if v.size == 1:
+        v = np.repeat(v, d)
+    if v.size != d:
+        raise ValueError(f"{name} has {v.size} values but the lattice has {d} axes")
+    return v
+
+
+def _check_axis(axis, d):
+    if not (isinstance(axis, (int, np.integer)) and 0 <= axis < d):
+        raise ValueError(f"axis {axis!r} is out of range for a {d}-D lattice (valid: 0..{d - 1})")
+    return int(axis)
+
+
+def _finite_extent(network, axis):
+    n = network.lattice.shape[axis]
+    return None if math.isinf(n) else int(n)
+
+
+def box(network, size, origin=None):
+    """Box of ``size`` sites per axis starting at ``origin`` (default: centred).
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic, box
+    >>> box(hypercubic((6, 6), mass=1.0), 2).indices.tolist()
+    [14, 15, 20, 21]
+    """
+    shape = _lattice_shape(network, "box")
+    d = len(shape)
+    size = _vector(size, d, "box size").astype(int)
+    if np.any(size < 1):
+        raise ValueError(f"box size {size.tolist()} must be >= 1 along every axis")
+    if origin is None:
+        ext = [(_finite_extent(network, a) or 2 * int(size[a])) for a in range(d)]
+        origin = [(e - s) // 2 for e, s in zip(ext, size)]
+    origin = _vector(origin, d, "box origin").astype(int)
+    for a in range(d):
+        ext = _finite_extent(network, a)
+        if origin[a] < 0 or (ext is not None and origin[a] + size[a] > ext):
+            raise ValueError(f"box along axis {a} spans {origin[a]}..{origin[a] + size[a] - 1}, "
+                             f"outside the lattice (0..{(ext or shape[a]) - 1})")
+    grids = np.meshgrid(*[np.arange(o, o + s) for o, s in zip(origin, size)], indexing="ij")
+    idx = np.ravel_multi_index([g.ravel() for g in grids], shape)
+    desc = "box " + "x".join(map(str, size)) + " at (" + ",".join(map(str, origin)) + ")"
+    return _make(network, idx, desc, ("box", tuple(size.tolist()), tuple(origin.tolist())))
+
+
+def ball(network, radius, center=None):
+    """Sites at Euclidean distance ≤ ``radius`` from ``center`` (default: the lattice centre).
+
+    Works on lattices and on networks with site coordinates.
+    """
+    if not (radius >= 0 and math.isfinite(radius)):
+        raise ValueError(f"ball radius {radius!r} must be a finite number >= 0")
+    if network.lattice is not None:
+        shape = network.index_shape
+        d = len(shape)
+        if center is None:
+            ext = [_finite_extent(network, a) for a in range(d)]
+            center = [((e - 1) / 2 if e is not None else math.ceil(radius)) for e in ext]
+        c = _vector(center, d, "ball center")
+        lo = np.maximum(np.ceil(c - radius), 0).astype(int)
+        hi = np.floor(c + radius).astype(int)
+        for a in range(d):
+            ext = _finite_extent(network, a)
+            if ext is not None:
+                hi[a] = min(hi[a], ext - 1)
+        axes = [np.arange(lo[a], hi[a] + 1) for a in range(d)]
+        grids = np.meshgrid(*axes, indexing="ij")
+        pts = np.stack([g.ravel() for g in grids], axis=1)
+        keep = np.sum((pts - c) ** 2, axis=1) <= radius**2 * (1 + 1e-12)
+        idx = np.ravel_multi_index(pts[keep].T, shape) if keep.any() else np.array([], int)
+    else:
+        xyz = network.coords()
+        c = xyz.mean(axis=0) if center is None else _vector(center, xyz.shape[1], "ball center")
+        idx = np.flatnonzero(np.sum((xyz - c) ** 2, axis=1) <= radius**2 * (1 + 1e-12))
+    desc = f"ball r={radius:g} at (" + ",".join(f"{x:g}" for x in np.atleast_1d(c)) + ")"
+    return _make(network, idx, desc, ("ball", float(radius), tuple(np.atleast_1d(c).tolist())))
+
+
+def half_space(network, axis, at):
+    """Sites with coordinate ``< at`` along ``axis`` (a lattice with finite extent there)."""
+    shape = _lattice_shape(network, "half-space")
+    axis = _check_axis(axis, len(shape))
+    region = slab(network, axis, 0, at)
+    desc = f"half-space x{axis} < {at}"
+    return Region(region.indices, desc, ("half_space", axis, int(at)))
+
+
+def slab(network, axis, start, stop):
+    """Sites with ``start <= coordinate < stop`` along ``axis``."""
+    shape = _lattice_shape(network, "slab")
+    d = len(shape)
+    axis = _check_axis(axis, d)
+    if network.is_infinite and any(math.isinf(network.lattice.shape[a]) for a in range(d)
+                                   if a != axis):
+        raise ValueError("a slab across an infinite transverse axis has infinitely many sites; "
+                         "use the transverse reduction (method='transverse')")
+    ext = _finite_extent(network, axis)
+    if not (0 <= start < stop) or (ext is not None and stop > ext):
+        raise ValueError(f"slab {start}..{stop} along axis {axis} must satisfy "
+                         f"0 <= start < stop <= {ext if ext is not None else 'inf'}")
+    sub = [np.arange(n) for n in shape]
+    sub[axis] = np.arange(int(start), int(stop))
+    grids = np.meshgrid(*sub, indexing="ij")
+    idx = np.ravel_multi_index([g.ravel() for g in grids], shape)
+    return _make(network, idx, f"slab {start} <= x{axis} < {stop}",
+                 ("slab", axis, int(start), int(stop)))
+
+
+def from_mask(network, mask, description="mask"):
+    """Sites where the boolean ``mask`` (flat, or with the lattice shape) is true."""
+    m = np.asarray(mask)
+    if m.dtype != bool:
+        if not np.all(np.isin(m, (0, 1))):
+            raise ValueError("mask must be boolean (or 0/1), got values "
+                             f"{np.unique(m)[:4].tolist()}")
+        m = m.astype(bool)
+    if m.size != network.index_limit:
+        raise ValueError(f"mask has {m.size} entries but the network has "
+                         f"{network.index_limit} sites")
+    return _make(network, np.flatnonzero(m.ravel()), description, ("mask",))
+
+
+def from_sites(network, sites, description=None):
+    """Region from a list of flat site indices (C order on lattices)."""
+    s = np.asarray(sites)
+    desc = description or f"{s.size} listed sites"
+    return _make(network, s, desc, ("sites",))
+
+
+def union(network, *regions):
+    """Sites in any of the regions."""
+    idx = np.unique(np.concatenate([r.indices for r in regions]))
+    return _make(network, idx, " ∪ ".join(r.description for r in regions))
+
+
+def intersection(network, a, b):
+    """Sites in both regions."""
+    return _make(network, np.intersect1d(a.indices, b.indices),
+                 f"{a.description} ∩ {b.description}")
+
+
+def difference(network, a, b):
+    """Sites of ``a`` not in ``b``."""
+    return _make(network, np.setdiff1d(a.indices, b.indices),
+                 f"{a.description} minus {b.description}")
+
+
+def complement(network, region):
+    """All other sites of a finite network."""
+    if network.is_infinite:
+        raise ValueError("the complement of a region of an infinite lattice is infinite; "
+                         "use the region itself (S(A) = S(complement) for a pure state)")
+    return _make(network, np.setdiff1d(np.arange(network.n_sites), region.indices),
+                 f"complement of {region.description}")

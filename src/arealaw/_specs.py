@@ -1,0 +1,112 @@
+"""Plain-dict descriptions of networks and regions (from the CLI or a scenario file).
+
+One normaliser per kind of input, so that ``arealaw entropy`` options and scenario files mean
+exactly the same thing.  Network keys: ``shape``, ``mass``, ``boundary``, ``coupling``,
+``inertia``, ``mass_disorder``, ``coupling_disorder``, ``seed`` — or ``potential`` (and
+``kinetic``) paths to scipy ``save_npz`` files.  Region keys (exactly one kind): ``box`` (+
+``origin``), ``ball`` (+ ``center``), ``half_space`` = [axis, at], ``slab`` = [axis, start,
+stop], ``sites`` (text file, one flat index per line, or ``.npy``), ``mask`` (``.npy`` boolean).
+"""
+
+from pathlib import Path
+
+import numpy as np
+
+from ._lattices import hypercubic
+from ._network import load_network
+from ._regions import ball, box, from_mask, from_sites, half_space, slab
+
+__all__ = ["REGION_KINDS", "network_from_spec", "region_from_spec"]
+
+LATTICE_KEYS = ("shape", "mass", "boundary", "coupling", "inertia", "mass_disorder",
+                "coupling_disorder", "seed")
+MATRIX_KEYS = ("potential", "kinetic")
+REGION_KINDS = ("box", "ball", "half_space", "slab", "sites", "mask")
+REGION_OPTIONS = {"box": ("origin",), "ball": ("center",)}
+
+
+def network_from_spec(spec):
+    """Build an :class:`OscillatorNetwork` from a dict (see module docstring).
+
+    Examples
+    --------
+    >>> net = network_from_spec({"shape": [10, 10], "mass": 0.5, "boundary": "periodic"})
+    >>> net.n_sites
+    100
+    """
+    spec = {k: v for k, v in spec.items() if v is not None}
+    unknown = sorted(set(spec) - set(LATTICE_KEYS) - set(MATRIX_KEYS))
+    if unknown:
+        raise ValueError(f"unknown lattice key {unknown[0]!r}; allowed: "
+                         f"{', '.join(LATTICE_KEYS + MATRIX_KEYS)}")
+    if "potential" in spec:
+        extra = sorted(set(spec) & set(LATTICE_KEYS))
+        if extra:
+            raise ValueError(f"{extra[0]!r} cannot be combined with a potential matrix file; "
+                             "give either a lattice (shape, ...) or matrices")
+        return load_network(spec["potential"], spec.get("kinetic"))
+    if "kinetic" in spec:
+        raise ValueError("a kinetic matrix needs a potential matrix (potential = V.npz)")
+    if "shape" not in spec:
+        raise ValueError("no lattice given: set shape (e.g. [20, 20]) or a potential matrix file")
+    kw = {k: spec[k] for k in LATTICE_KEYS if k in spec and k != "shape"}
+    return hypercubic(spec["shape"], **kw)
+
+
+def _read_sites(path):
+    p = Path(path)
+    if not p.exists():
+        raise ValueError(f"site file {str(path)!r} does not exist")
+    if p.suffix == ".npy":
+        return np.load(p, allow_pickle=False)
+    try:
+        return np.loadtxt(p, dtype=float, ndmin=1, comments="#")
+    except ValueError as exc:
+        raise ValueError(f"site file {str(path)!r} must hold one integer site index per line "
+                         f"({exc})") from None
+
+
+def region_from_spec(network, spec):
+    """Build a :class:`Region` of ``network`` from a dict with exactly one region kind.
+
+    Examples
+    --------
+    >>> net = network_from_spec({"shape": [10, 10], "mass": 0.5})
+    >>> region_from_spec(net, {"box": [2, 3], "origin": [0, 0]}).size
+    6
+    """
+    spec = {k: v for k, v in spec.items() if v is not None}
+    kinds = [k for k in REGION_KINDS if k in spec]
+    if len(kinds) != 1:
+        raise ValueError("give exactly one region kind (" + ", ".join(REGION_KINDS) + "), got "
+                         + (", ".join(kinds) if kinds else "none"))
+    kind = kinds[0]
+    allowed = {kind, *REGION_OPTIONS.get(kind, ())}
+    unknown = sorted(set(spec) - allowed)
+    if unknown:
+        raise ValueError(f"region key {unknown[0]!r} does not go with {kind!r}; allowed: "
+                         f"{', '.join(sorted(allowed))}")
+    value = spec[kind]
+    if kind == "box":
+        return box(network, value, spec.get("origin"))
+    if kind == "ball":
+        return ball(network, float(value), spec.get("center"))
+    if kind == "half_space":
+        axis, at = _ints(value, 2, "half_space", "[axis, at]")
+        return half_space(network, axis, at)
+    if kind == "slab":
+        axis, start, stop = _ints(value, 3, "slab", "[axis, start, stop]")
+        return slab(network, axis, start, stop)
+    if kind == "sites":
+        return from_sites(network, _read_sites(value), f"sites from {Path(value).name}")
+    mask_path = Path(value)
+    if not mask_path.exists():
+        raise ValueError(f"mask file {str(value)!r} does not exist")
+    return from_mask(network, np.load(mask_path, allow_pickle=False), f"mask {mask_path.name}")
+
+
+def _ints(value, n, name, form):
+    vals = list(np.atleast_1d(value))
+    if len(vals) != n or any(float(v) != int(float(v)) for v in vals):
+        raise ValueError(f"{name} must be {form} (integers), got {value!r}")
+    return [int(float(v)) for v in vals]

@@ -1,0 +1,55 @@
+"""The ``arealaw`` command.
+
+Each command lives in its own module with a ``register(subparsers)`` function that adds its
+parser and sets ``func``; :func:`main` dispatches and turns user errors into one line and exit 2.
+"""
+
+import importlib
+import sys
+
+from .. import __version__
+from ._common import USER_ERRORS, ArgumentParser, HelpFormatter, fail
+
+__all__ = ["main"]
+
+#: Command modules, in the order they appear in ``arealaw --help``.
+COMMAND_MODULES = ("_entropy",)
+
+EPILOG = """examples:
+  arealaw entropy --shape 20 20 --mass 0.1 --box 10 10
+  arealaw entropy --shape 100 --mass 0.01 --box 50 --renyi 2 inf --json
+  arealaw entropy --potential V.npz --kinetic M.npz --sites region.txt
+  arealaw <command> --help      options of one command
+"""
+
+
+def build_parser():
+    parser = ArgumentParser(
+        prog="arealaw", formatter_class=HelpFormatter, epilog=EPILOG,
+        description="Ground-state entanglement of lattices of coupled harmonic oscillators.")
+    parser.add_argument("--version", action="version", version=f"arealaw {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=ArgumentParser)
+    for name in COMMAND_MODULES:
+        importlib.import_module(f"{__name__}.{name}").register(sub)
+    return parser
+
+
+def main(argv=None):
+    """Run the command line; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return 2
+    prog = f"arealaw {args.command}"
+    try:
+        return int(args.func(args) or 0)
+    except KeyboardInterrupt:
+        print(f"{prog}: interrupted", file=sys.stderr)
+        return 130
+    except USER_ERRORS as exc:
+        return fail(prog, exc)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,58 @@
+"""Shared CLI plumbing: one-line errors, number parsing, and JSON/human output."""
+
+import argparse
+import json
+import math
+import sys
+
+from .._errors import ConvergenceError, InsufficientMemoryError
+
+__all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "print_json"]
+
+#: Exceptions that mean "the user asked for something impossible or wrong": one line, exit 2.
+USER_ERRORS = (ValueError, OSError, InsufficientMemoryError,
+               ConvergenceError)
+
+
+class ArgumentParser(argparse.ArgumentParser):
+    """argparse with a one-line error (no usage dump) that points at ``--help``."""
+
+    def error(self, message):
+        self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
+
+
+class HelpFormatter(argparse.RawDescriptionHelpFormatter):
+    """Keep the examples in epilogs as written."""
+
+
+def fail(prog, exc):
+    """Print one line for a user error and return the exit status."""
+    msg = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+    print(f"{prog}: error: {msg}", file=sys.stderr)
+    return 2
+
+
+def parse_extent(text):
+    """An axis length: positive integer or 'inf'."""
+    if text.strip().lower() in ("inf", "infinite", "infinity"):
+        return math.inf
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a positive integer or 'inf'") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
+    return n
+
+
+def parse_order(text):
+    """A Rényi order: number > 0 or 'inf'."""
+    from .._measures import normalize_order
+    try:
+        return normalize_order(text)
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+
+
+def print_json(obj):
+    print(json.dumps(obj, indent=2, sort_keys=False, allow_nan=False))

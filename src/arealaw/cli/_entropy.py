@@ -1,0 +1,148 @@
+"""``arealaw entropy``: one case, a readable summary or one JSON object."""
+
+import argparse
+import math
+
+from .._entropy import DEFAULT_TOL, entropy, logarithmic_negativity
+from .._methods import method_names
+from .._specs import network_from_spec, region_from_spec
+from ._common import HelpFormatter, parse_extent, parse_order, print_json
+
+__all__ = ["register"]
+
+EPILOG = """examples:
+  arealaw entropy --shape 100 --mass 0.01 --box 50            half of a massive chain
+  arealaw entropy --shape 20 20 20 --box 10 10 10 --renyi 2 inf
+  arealaw entropy --shape 30 30 --mass 0.1 --boundary periodic dirichlet --ball 6 --json
+  arealaw entropy --shape 40 --mass 0.2 --box 5 --origin 5 --box-b 5 --origin-b 20
+  arealaw entropy --potential V.npz --kinetic M.npz --sites region.txt
+
+Sites are in C order (last axis fastest); coordinates are 0-based site indices.
+"""
+
+
+def _region_options(parser, suffix=""):
+    tag = "" if not suffix else " of region B"
+    g = parser.add_argument_group("region" + (" B (for mutual information)" if suffix else ""))
+    g.add_argument(f"--box{suffix}", nargs="+", type=int, metavar="S",
+                   help=f"box{tag}: sites per axis")
+    g.add_argument(f"--origin{suffix}", nargs="+", type=int, metavar="O",
+                   help="corner of the box (default: centred)")
+    g.add_argument(f"--ball{suffix}", type=float, metavar="R",
+                   help=f"ball{tag}: sites at distance <= R from the centre")
+    g.add_argument(f"--center{suffix}", nargs="+", type=float, metavar="C",
+                   help="centre of the ball (default: lattice centre)")
+    g.add_argument(f"--half-space{suffix}", nargs=2, type=int, metavar=("AXIS", "AT"),
+                   help="sites with coordinate < AT along AXIS")
+    g.add_argument(f"--slab{suffix}", nargs=3, type=int, metavar=("AXIS", "START", "STOP"),
+                   help="sites with START <= coordinate < STOP along AXIS")
+    g.add_argument(f"--sites{suffix}", metavar="FILE",
+                   help="text file with one flat site index per line, or .npy")
+    g.add_argument(f"--mask{suffix}", metavar="FILE", help=".npy boolean mask over all sites")
+
+
+def register(sub):
+    p = sub.add_parser("entropy", help="entanglement entropy of one region (or a pair)",
+                       description="Entanglement entropy of a region of an oscillator network "
+                                   "in its ground state.",
+                       epilog=EPILOG, formatter_class=HelpFormatter)
+    lat = p.add_argument_group("lattice (or matrices)")
+    lat.add_argument("--shape", nargs="+", type=parse_extent, metavar="N",
+                     help="sites per axis (1-3 axes); 'inf' for an infinite axis")
+    lat.add_argument("--mass", type=float, default=None, help="field mass m >= 0 (default 0)")
+    lat.add_argument("--boundary", nargs="+", metavar="B",
+                     help="dirichlet | periodic | open, one value or one per axis "
+                          "(default dirichlet)")
+    lat.add_argument("--coupling", nargs="+", type=float, metavar="J",
+                     help="nearest-neighbour coupling, one value or one per axis (default 1)")
+    lat.add_argument("--inertia", type=float, help="oscillator mass (diagonal of M, default 1)")
+    lat.add_argument("--mass-disorder", type=float, metavar="W",
+                     help="seeded random site masses m_i = m + W*u, u ~ U(0,1)")
+    lat.add_argument("--coupling-disorder", type=float, metavar="W",
+                     help="seeded random couplings J*(1 + W*u), u ~ U(-1,1)")
+    lat.add_argument("--seed", type=int, help="seed of the disorder")
+    lat.add_argument("--potential", metavar="V.npz", help="potential matrix (scipy save_npz)")
+    lat.add_argument("--kinetic", metavar="M.npz", help="kinetic matrix (scipy save_npz)")
+    _region_options(p)
+    _region_options(p, "-b")
+    out = p.add_argument_group("measures and numerics")
+    out.add_argument("--renyi", nargs="+", type=parse_order, default=[], metavar="N",
+                     help="Rényi orders n > 0 (numbers or inf)")
+    out.add_argument("--negativity", action="store_true",
+                     help="with region B: also the logarithmic negativity E_N(A:B)")
+    out.add_argument("--energies", type=int, default=0, metavar="K",
+                     help="also list the K lowest entanglement energies")
+    out.add_argument("--method", default="auto", choices=method_names(),
+                     help="how to compute (default: auto, which says what it chose and why)")
+    out.add_argument("--tol", type=float, default=DEFAULT_TOL,
+                     help=f"target accuracy of the correlators (default {DEFAULT_TOL:g})")
+    out.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(func=run)
+
+
+def _network(args):
+    spec = {"shape": args.shape, "mass": args.mass, "boundary": args.boundary,
+            "coupling": args.coupling, "inertia": args.inertia,
+            "mass_disorder": args.mass_disorder, "coupling_disorder": args.coupling_disorder,
+            "seed": args.seed, "potential": args.potential, "kinetic": args.kinetic}
+    return network_from_spec(spec)
+
+
+def _region_spec(args, suffix=""):
+    s = suffix.replace("-", "_")
+    spec = {"box": getattr(args, "box" + s), "origin": getattr(args, "origin" + s),
+            "ball": getattr(args, "ball" + s), "center": getattr(args, "center" + s),
+            "half_space": getattr(args, "half_space" + s), "slab": getattr(args, "slab" + s),
+            "sites": getattr(args, "sites" + s), "mask": getattr(args, "mask" + s)}
+    return {k: v for k, v in spec.items() if v is not None}
+
+
+def run(args):
+    net = _network(args)
+    spec_a = _region_spec(args)
+    if not spec_a:
+        raise ValueError("no region given: use --box, --ball, --half-space, --slab, --sites "
+                         "or --mask")
+    region = region_from_spec(net, spec_a)
+    spec_b = _region_spec(args, "-b")
+    region_b = region_from_spec(net, spec_b) if spec_b else None
+    if args.negativity and region_b is None:
+        raise ValueError("--negativity needs a second region (--box-b, --ball-b, ...)")
+    res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
+                  tol=args.tol, energies=args.energies)
+    out = res.to_dict()
+    if args.negativity:
+        out["negativity"], _ = logarithmic_negativity(net, region, region_b, method=res.method,
+                                                      tol=args.tol)
+    if args.json:
+        print_json(out)
+    else:
+        _summary(out)
+    return 0
+
+
+def _fmt(x):
+    return "n/a" if x is None else (f"{x:.12g}" if isinstance(x, float) else str(x))
+
+
+def _summary(d):
+    lines = [f"network          {d['network']}",
+             f"region           {d['region']} ({d['region_sites']} sites)",
+             f"method           {d['method']} — {d['reason']}",
+             f"entropy          {_fmt(d['entropy'])}  (error bound {d['error_bound']:.2g})"]
+    for k, v in d["renyi"].items():
+        lines.append(f"Rényi S_{k:<9} {_fmt(v)}  (error bound {d['renyi_error_bound'][k]:.2g})")
+    if "mutual_information" in d:
+        lines += [f"region B         {d['region_b']} ({d['region_b_sites']} sites)",
+                  f"entropy B        {_fmt(d['entropy_b'])}",
+                  f"entropy A∪B      {_fmt(d['entropy_ab'])}",
+                  f"mutual info      {_fmt(d['mutual_information'])}  (error bound "
+                  f"{d['mutual_information_error_bound']:.2g})"]
+    if "negativity" in d:
+        lines.append(f"log negativity   {_fmt(d['negativity'])}")
+    if d.get("entanglement_energies"):
+        e = ", ".join("inf" if (isinstance(x, str) or math.isinf(x)) else f"{x:.6g}"
+                      for x in d["entanglement_energies"])
+        lines.append(f"energies         {e}")
+    lines.append(f"modes            {d['modes']}    time {d['seconds']:.3g} s")
+    print("\n".join(lines))

@@ -1,0 +1,38 @@
+"""Correlator backends: X[rows, cols] and P[rows, cols] of the ground state.
+
+Every backend implements :class:`CorrelatorBackend`; :func:`get_backend` looks one up by the
+name used in ``method=``.  New backends register themselves with :func:`register_backend`.
+"""
+
+from ._base import Assessment, Blocks, CorrelatorBackend
+from ._dense import DenseBackend, dense_correlators
+
+_REGISTRY = {}
+
+
+def register_backend(backend):
+    """Make ``backend`` (a :class:`CorrelatorBackend` instance) available by its name."""
+    _REGISTRY[backend.name] = backend
+    return backend
+
+
+def get_backend(name):
+    """The registered backend called ``name``."""
+    try:
+        return _REGISTRY[name]
+    except KeyError:
+        raise ValueError(f"unknown correlator backend {name!r}; available: "
+                         f"{', '.join(sorted(_REGISTRY))}") from None
+
+
+def backend_names():
+    """Names of the registered backends, sorted."""
+    return sorted(_REGISTRY)
+
+
+register_backend(DenseBackend())
+
+__all__ = sorted([
+    "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "backend_names",
+    "dense_correlators", "get_backend", "register_backend",
+])

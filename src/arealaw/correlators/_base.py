@@ -1,0 +1,65 @@
+"""The one backend protocol: correlator blocks X[rows, cols], P[rows, cols] with error bounds."""
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse.linalg as spla
+
+__all__ = ["Assessment", "Blocks", "CorrelatorBackend"]
+
+
+@dataclass
+class Blocks:
+    """Correlator blocks and bounds on their errors.
+
+    ``x_error`` and ``p_error`` bound the spectral norm of ``X_exact - x`` and ``P_exact - p``
+    (from approximation and solver tolerances; rounding included where the backend can say).
+    ``info`` carries backend diagnostics (poles, iterations, spectral interval, ...).
+    """
+
+    x: np.ndarray
+    p: np.ndarray
+    x_error: float = 0.0
+    p_error: float = 0.0
+    info: dict = field(default_factory=dict)
+
+
+@dataclass
+class Assessment:
+    """A backend's answer to "can you serve this, and at what cost?"."""
+
+    ok: bool
+    reason: str
+    bytes: float = 0.0
+    seconds: float = 0.0
+
+
+class CorrelatorBackend:
+    """Base class of correlator backends.
+
+    A backend answers one question: given a network and index arrays ``rows`` and ``cols``,
+    return :class:`Blocks` holding ``X[rows, cols]`` and ``P[rows, cols]`` with error bounds.
+    Subclasses implement :meth:`assess` and :meth:`blocks`; :meth:`operators` has a default that
+    forms the region block, and backends that can apply X_A and P_A without forming them override
+    it (for matrix-free restricted spectra).
+    """
+
+    #: Method name used by ``method=`` and ``--method``.
+    name = "abstract"
+
+    def assess(self, network, n_rows, *, tol):
+        """Return an :class:`Assessment` for blocks of ``n_rows`` sites of ``network``."""
+        raise NotImplementedError
+
+    def blocks(self, network, rows, cols=None, *, tol):
+        """Return :class:`Blocks` with X[rows, cols], P[rows, cols] (``cols`` defaults to rows)."""
+        raise NotImplementedError
+
+    def operators(self, network, rows, *, tol):
+        """Return (X_A, P_A, x_error, p_error, info) with X_A, P_A as LinearOperators."""
+        b = self.blocks(network, rows, tol=tol)
+        return (spla.aslinearoperator(b.x), spla.aslinearoperator(b.p), b.x_error, b.p_error,
+                b.info)
+
+    def __repr__(self):
+        return f"<{type(self).__name__} {self.name!r}>"
