@@ -125,7 +125,7 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
     --------
     >>> from arealaw import hypercubic
     >>> net = hypercubic((4, 3), mass=0.5, boundary=("dirichlet", "periodic"))
-    >>> net.n_sites, net.potential[0, 0]
+    >>> net.n_sites, float(net.potential[0, 0])
     (12, 4.25)
     """
     if isinstance(shape, (int, np.integer, str)):

@@ -76,7 +76,7 @@ def von_neumann_entropy(spec):
     >>> from arealaw import SymplecticSpectrum, von_neumann_entropy
     >>> spec = SymplecticSpectrum(np.array([0.75]), np.zeros(1), np.ones(1))   # ν = 1
     >>> round(von_neumann_entropy(spec), 12)
-    1.647918433002
+    0.954771252442
     """
     return _weighted(spec, mode_entropy(spec.t, 1.0))
 
