@@ -22,6 +22,7 @@ from ._network import OscillatorNetwork, load_network
 from ._regions import (Region, ball, box, complement, difference, from_mask, from_sites,
                        half_space, intersection, slab, union)
 from ._spectrum import SymplecticSpectrum, Tail, combine_spectra, symplectic_spectrum
+from .reductions import radial_entropy, radial_lattice, shells
 
 __version__ = "0.1.0"
 
@@ -31,6 +32,6 @@ __all__ = sorted([
     "ball", "box", "choose_method", "combine_spectra", "complement", "difference",
     "entanglement_energies", "entropy", "entropy_error_bound", "from_mask", "from_sites",
     "half_space", "hypercubic", "intersection", "load_network", "logarithmic_negativity",
-    "method_names", "mode_entropy", "mutual_information", "renyi_entropy", "slab", "union",
-    "von_neumann_entropy",
+    "method_names", "mode_entropy", "mutual_information", "radial_entropy", "radial_lattice",
+    "renyi_entropy", "shells", "slab", "union", "von_neumann_entropy",
 ])

@@ -45,6 +45,7 @@ class EntropyResult:
     region_b_sites: int = None
     region_b: str = None
     entanglement_energies: list = None
+    entropy_per_area: float = None
     spectrum: object = field(default=None, repr=False)
     info: dict = field(default_factory=dict)
 
@@ -56,6 +57,8 @@ class EntropyResult:
                 d.pop(k)
         if self.entanglement_energies is None:
             d.pop("entanglement_energies")
+        if self.entropy_per_area is None:
+            d.pop("entropy_per_area")
         return _jsonable(d)
 
 
@@ -146,6 +149,9 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         sites=network.n_sites if network.n_sites is not None else "inf",
         region_sites=region.size, region=region.description, network=repr(network),
         spectrum=spectra[0], info=_info(spectra[0]))
+    if spectra[0].info.get("per_area"):
+        # infinite transverse axes: S itself is infinite; the spectrum is weighted per unit area
+        res.entropy_per_area, res.entropy, res.region_sites = s, None, "inf"
     if energies:
         res.entanglement_energies = entanglement_energies(spectra[0])[:energies].tolist()
     if region_b is not None:

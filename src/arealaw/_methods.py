@@ -50,6 +50,9 @@ class BlockMethod(Method):
         self.name = self.backend.name
 
     def assess(self, network, regions, *, tol):
+        if any(r.size == 0 for r in regions):
+            return Assessment(False, "a region with infinitely many sites (no site list) is "
+                                     "served only by symmetry reductions (method='transverse')")
         n_max = max(r.size for r in regions)
         a = self.backend.assess(network, n_max, tol=tol)
         if not a.ok:
@@ -102,16 +105,17 @@ class Choice:
 
 def choose_method(network, regions, method="auto", *, tol):
     """Pick the method for ``regions`` of ``network``; explicit names are checked, not second-guessed."""
-    if method != "auto":
-        if method not in _METHODS:
+    if isinstance(method, Method) or method != "auto":
+        # a Method instance (e.g. one with non-default options) is used as given
+        if not isinstance(method, Method) and method not in _METHODS:
             raise ValueError(f"unknown method {method!r}; choose one of "
                              f"{', '.join(method_names())}")
-        m = _METHODS[method]
+        m = method if isinstance(method, Method) else _METHODS[method]
         a = m.assess(network, regions, tol=tol)
         if not a.ok:
             alt = _best(network, regions, tol)
             hint = f"; method={alt[0].name!r} can ({alt[1].reason})" if alt else ""
-            raise UnsupportedMethodError(f"method {method!r} cannot serve this case: "
+            raise UnsupportedMethodError(f"method {m.name!r} cannot serve this case: "
                                          f"{a.reason}{hint}")
         return Choice(m, f"requested: {a.reason}")
     best = _best(network, regions, tol)
@@ -136,3 +140,9 @@ def _best(network, regions, tol):
 
 
 register_method(BlockMethod("dense"))
+
+from .reductions import RadialMethod, TransverseMethod  # noqa: E402  (they build on Method)
+
+register_method(RadialMethod())
+register_method(TransverseMethod())
+

@@ -157,6 +157,8 @@ def half_space(network, axis, at):
     """Sites with coordinate ``< at`` along ``axis`` (a lattice with finite extent there)."""
     shape = _lattice_shape(network, "half-space")
     axis = _check_axis(axis, len(shape))
+    if network.is_infinite and _infinitely_many(network, axis, normal_counts=True):
+        return _geometric(f"half-space x{axis} < {at}", ("half_space", axis, int(at)))
     region = slab(network, axis, 0, at)
     desc = f"half-space x{axis} < {at}"
     return Region(region.indices, desc, ("half_space", axis, int(at)))
@@ -167,20 +169,31 @@ def slab(network, axis, start, stop):
     shape = _lattice_shape(network, "slab")
     d = len(shape)
     axis = _check_axis(axis, d)
-    if network.is_infinite and any(math.isinf(network.lattice.shape[a]) for a in range(d)
-                                   if a != axis):
-        raise ValueError("a slab across an infinite transverse axis has infinitely many sites; "
-                         "use the transverse reduction (method='transverse')")
     ext = _finite_extent(network, axis)
     if not (0 <= start < stop) or (ext is not None and stop > ext):
         raise ValueError(f"slab {start}..{stop} along axis {axis} must satisfy "
                          f"0 <= start < stop <= {ext if ext is not None else 'inf'}")
+    if network.is_infinite and _infinitely_many(network, axis, normal_counts=False):
+        return _geometric(f"slab {start} <= x{axis} < {stop}",
+                          ("slab", axis, int(start), int(stop)))
     sub = [np.arange(n) for n in shape]
     sub[axis] = np.arange(int(start), int(stop))
     grids = np.meshgrid(*sub, indexing="ij")
     idx = np.ravel_multi_index([g.ravel() for g in grids], shape)
     return _make(network, idx, f"slab {start} <= x{axis} < {stop}",
                  ("slab", axis, int(start), int(stop)))
+
+
+def _infinitely_many(network, axis, *, normal_counts):
+    """Whether a half-space (normal_counts) or slab along ``axis`` has infinitely many sites."""
+    shape = network.lattice.shape
+    return any(math.isinf(n) for a, n in enumerate(shape) if a != axis or normal_counts)
+
+
+def _geometric(description, geometry):
+    # Infinitely many sites: the region is described by its geometry alone (no index list);
+    # only methods that work from the geometry (method='transverse') can serve it.
+    return Region(np.empty(0, dtype=np.int64), description + " (infinite)", geometry)
 
 
 def from_mask(network, mask, description="mask"):
