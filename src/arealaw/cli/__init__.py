@@ -13,7 +13,7 @@ from ._common import USER_ERRORS, ArgumentParser, HelpFormatter, fail
 __all__ = ["main"]
 
 #: Command modules, in the order they appear in ``arealaw --help``.
-COMMAND_MODULES = ("_entropy",)
+COMMAND_MODULES = ("_entropy", "_sweep", "_validate")
 
 EPILOG = """examples:
   arealaw entropy --shape 20 20 --mass 0.1 --box 10 10

@@ -1,0 +1,100 @@
+"""Figures of a stored sweep (matplotlib ``Figure`` objects directly: no pyplot, no global backend).
+
+* :func:`scaling_figure` — S against the area term R^{d−1} (ln ℓ in 1-D) with the fit, and the
+  residuals with the error bounds;
+* :func:`energies_figure` — the lowest entanglement energies of one case against their index;
+* :func:`region_figure` — a 2-D slice of the region through its centre.
+"""
+
+import io
+
+import numpy as np
+from matplotlib.figure import Figure
+
+__all__ = ["energies_figure", "figure_png", "region_figure", "scaling_figure"]
+
+
+def figure_png(fig, path=None, *, dpi=110):
+    """PNG bytes of ``fig`` (and write them to ``path`` when given)."""
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=dpi, bbox_inches="tight")
+    data = buf.getvalue()
+    if path is not None:
+        with open(path, "wb") as f:
+            f.write(data)
+    return data
+
+
+def scaling_figure(fit, *, title="", measure="entropy"):
+    """Entropy against the area term with the fitted law, and the residuals.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from arealaw._fits import fit_scaling
+    >>> r = np.arange(2.0, 9.0)
+    >>> fig = scaling_figure(fit_scaling(r, 0.3 * r**2 + 0.1, dim=3))
+    >>> len(fig.axes)
+    2
+    """
+    fig = Figure(figsize=(6.4, 6.0))
+    ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
+    r = fit.sizes
+    grid = np.linspace(r.min(), r.max(), 200)
+    if fit.dim == 1:
+        x, xg, xlabel = np.log(r), np.log(grid), "ln ℓ"
+    else:
+        x, xg = r ** (fit.dim - 1), grid ** (fit.dim - 1)
+        xlabel = "R" if fit.dim == 2 else "R²"
+        xlabel += "  (area term)"
+    ax.errorbar(x, fit.values, yerr=fit.sigma, fmt="o", ms=4, label=measure)
+    ax.plot(xg, fit.predict(grid), "-", lw=1.2, label=fit.law)
+    ax.set_ylabel(measure)
+    ax.legend(loc="best", fontsize=8)
+    ax.set_title(title or fit.law, fontsize=10)
+    axr.axhline(0.0, color="0.5", lw=0.8)
+    axr.errorbar(x, fit.residuals, yerr=fit.sigma, fmt="o", ms=3)
+    axr.set_ylabel("residual")
+    axr.set_xlabel(xlabel)
+    return fig
+
+
+def energies_figure(energies, *, title=""):
+    """Entanglement energies ε_k (ν = ½ coth(ε/2)) against their index k."""
+    fig = Figure(figsize=(5.6, 3.6))
+    ax = fig.subplots()
+    e = np.array([np.inf if isinstance(v, str) or v is None else v for v in energies], float)
+    k = np.arange(e.size)
+    finite = np.isfinite(e)
+    ax.plot(k[finite], e[finite], "o-", ms=4)
+    ax.set_xlabel("index k")
+    ax.set_ylabel("entanglement energy ε_k")
+    ax.set_title(title, fontsize=10)
+    return fig
+
+
+def region_figure(network, region, *, region_b=None, title=""):
+    """A 2-D slice of the lattice through the region's centre (axis 0 fixed in 3-D)."""
+    shape = network.index_shape
+    if network.lattice is None or network.is_infinite:
+        raise ValueError("region pictures need a finite lattice")
+    mask = np.zeros(network.n_sites, dtype=np.int8)
+    mask[region.indices] = 1
+    if region_b is not None:
+        mask[region_b.indices] = 2
+    grid = mask.reshape(shape)
+    where = ""
+    if grid.ndim == 3:
+        c = np.asarray(network.coords(region.indices), float).mean(axis=0)
+        i = int(round(c[0]))
+        grid, where = grid[i], f" (slice at axis-0 coordinate {i})"
+    elif grid.ndim == 1:
+        grid = grid[None, :]
+    fig = Figure(figsize=(4.8, 4.2))
+    ax = fig.subplots()
+    ax.imshow(grid, origin="lower", cmap="Blues" if region_b is None else "viridis",
+              vmin=0, vmax=2 if region_b is not None else 1, interpolation="nearest")
+    ax.set_title((title or region.description) + where, fontsize=9)
+    ax.set_xlabel("last axis")
+    ax.set_ylabel("middle axis" if len(shape) == 3 else ("first axis" if len(shape) == 2 else ""))
+    return fig

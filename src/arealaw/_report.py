@@ -1,0 +1,130 @@
+"""One self-contained HTML report of a stored sweep: tables, fits and figures (base64 PNG)."""
+
+import base64
+import datetime
+import html
+import math
+
+from ._fits import fit_rows
+from ._plots import energies_figure, figure_png, region_figure, scaling_figure
+from ._specs import network_from_spec, region_from_spec
+
+__all__ = ["fit_groups", "write_report"]
+
+STYLE = """body{font-family:sans-serif;max-width:60em;margin:2em auto;color:#222}
+table{border-collapse:collapse;margin:1em 0;font-size:90%}td,th{border:1px solid #bbb;
+padding:.2em .6em;text-align:right}th{background:#eee}img{max-width:100%}
+.note{color:#555;font-size:90%}"""
+
+
+def fit_groups(rows):
+    """Rows of a store grouped for fitting: {(family, lattice variant): [rows]} (swept sizes)."""
+    groups = {}
+    for r in rows:
+        if r.get("x") is None or r.get("mutual_information") is not None:
+            continue
+        variant = r["label"].split(" | ", 1)[1] if " | " in r["label"] else ""
+        groups.setdefault((r["family"], variant), []).append(r)
+    return groups
+
+
+def group_name(key):
+    family, variant = key
+    return f"{family} ({variant})" if variant else family
+
+
+def _img(fig, alt):
+    data = base64.b64encode(figure_png(fig)).decode("ascii")
+    return f'<img alt="{html.escape(alt)}" src="data:image/png;base64,{data}">'
+
+
+def _num(v, digits=8):
+    if v is None:
+        return "—"
+    if isinstance(v, float):
+        return "—" if not math.isfinite(v) else f"{v:.{digits}g}"
+    return html.escape(str(v))
+
+
+def _table(headers, body):
+    out = ["<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in headers) + "</tr>"]
+    for row in body:
+        out.append("<tr>" + "".join(f"<td>{_num(v)}</td>" for v in row) + "</tr>")
+    return "\n".join(out + ["</table>"])
+
+
+def _fit_section(key, rows, powers, endpoints):
+    name = group_name(key)
+    parts = [f"<h3>Fit: {html.escape(name)}</h3>"]
+    try:
+        fit = fit_rows(rows, powers=powers, endpoints=endpoints)
+    except ValueError as exc:
+        return parts + [f'<p class="note">no fit: {html.escape(str(exc))}</p>'], None
+    body = []
+    for n, v, e in zip(fit.names, fit.coefficients, fit.stderr):
+        drops = "; ".join(f"−{k}: {a:.6g}" for k, a, _ in fit.stability.get(n, []))
+        body.append([n, float(v), float(e), fit.drift.get(n), drops or "—"])
+    parts.append(f"<p>{html.escape(fit.law)}, {fit.sizes.size} points, "
+                 f"χ²/dof = {_num(fit.chi2_red, 4)} (weights: error bounds)</p>")
+    parts.append(_table(["coefficient", "value", "std. error", "largest drift",
+                         "dropping smallest sizes"], body))
+    if fit.central_charge is not None:
+        parts.append(f"<p>central charge c = {fit.central_charge:.5g} ± "
+                     f"{fit.central_charge_stderr:.2g} ({fit.endpoints} endpoint(s))</p>")
+    parts.append(_img(scaling_figure(fit, title=name), f"fit of {name}"))
+    return parts, fit
+
+
+def _picture(row):
+    spec = row["spec"]
+    net = network_from_spec(spec["network"])
+    if net.lattice is None or net.is_infinite or net.ndim > 3:
+        return ""
+    reg = region_from_spec(net, spec["region"])
+    reg_b = region_from_spec(net, spec["region_b"]) if spec.get("region_b") else None
+    return _img(region_figure(net, reg, region_b=reg_b, title=f"{row['family']}: {row['label']}"),
+                "region")
+
+
+def write_report(store, path, *, title="", powers=(), endpoints=2):
+    """Write the report of everything in ``store`` to ``path`` (HTML); returns the path."""
+    rows = store.rows()
+    if not rows:
+        raise ValueError(f"the store {str(store.path)!r} holds no results; run a scenario first "
+                         "(arealaw run SCENARIO.toml --store PATH)")
+    stamp = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    parts = [f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>"
+             f"{html.escape(title or 'arealaw report')}</title><style>{STYLE}</style></head><body>",
+             f"<h1>{html.escape(title or 'arealaw sweep report')}</h1>",
+             f"<p class='note'>{len(rows)} stored cases from {html.escape(str(store.path))}; "
+             f"written {stamp}.</p>"]
+    groups = fit_groups(rows)
+    if groups:
+        parts.append("<h2>Scaling fits</h2>")
+    for key, grp in groups.items():
+        sec, _ = _fit_section(key, grp, powers, endpoints)
+        parts += sec
+        largest = max(grp, key=lambda r: r["x"])
+        parts.append(_picture(largest))
+        if largest.get("entanglement_energies"):
+            parts.append(_img(energies_figure(largest["entanglement_energies"],
+                                              title=f"{key[0]}: {largest['label']}"),
+                              "entanglement energies"))
+    pairs = [r for r in rows if r.get("mutual_information") is not None]
+    if pairs:
+        parts.append("<h2>Mutual information</h2>")
+        parts.append(_table(["family", "region A", "region B", "S_A", "S_B", "S_AB", "I(A:B)",
+                             "error bound"],
+                            [[r["family"], r["region"], r["region_b"], r["entropy"],
+                              r["entropy_b"], r["entropy_ab"], r["mutual_information"],
+                              r["mutual_information_error_bound"]] for r in pairs]))
+        parts.append(_picture(pairs[0]))
+    parts.append("<h2>All cases</h2>")
+    parts.append(_table(["case", "family", "label", "sites", "entropy", "error bound", "method",
+                         "seconds"],
+                        [[r["case"], r["family"], r["label"], r["region_sites"], r["entropy"],
+                          r["error_bound"], r["method"], r["seconds"]] for r in rows]))
+    parts.append("</body></html>")
+    with open(path, "w", encoding="utf-8") as f:
+        f.write("\n".join(p for p in parts if p))
+    return path

@@ -1,0 +1,318 @@
+"""``arealaw run / results / fit / plot / report / demo``: scenario sweeps and their analysis."""
+
+import csv
+import os
+import sys
+import time
+from importlib.resources import files
+from pathlib import Path
+
+from ._common import HelpFormatter, print_json
+
+__all__ = ["register"]
+
+RUN_EPILOG = """examples:
+  arealaw run sweep.toml                          store in <out>/results.sqlite of the scenario
+  arealaw run sweep.toml --store r.sqlite --workers 2
+  arealaw run sweep.toml --scheduler tcp://head-node:8786
+
+A rerun skips every case already in the store; an interrupted run loses no finished case.
+On a cluster: start 'dask scheduler' on one machine and 'dask worker tcp://HOST:8786' on each
+worker machine (each needs arealaw installed); results are written by this process only.
+"""
+
+RESULTS_EPILOG = """examples:
+  arealaw results --store r.sqlite
+  arealaw results --store r.sqlite --json > results.json
+  arealaw results --store r.sqlite --csv --family balls > balls.csv
+"""
+
+FIT_EPILOG = """examples:
+  arealaw fit --store r.sqlite                       every swept family
+  arealaw fit --store r.sqlite --family balls --power 1 --json
+  arealaw fit --store chain.sqlite --measure renyi:2 --endpoints 1
+
+Law: S = a R^(d-1) + b ln R + c in d >= 2; S = (c/3) ln l + const in 1-D (two endpoints).
+"""
+
+
+def _store(path, *, must_exist=True):
+    from .._store import ResultStore
+    if must_exist and not Path(path).is_file():
+        raise ValueError(f"store {str(path)!r} does not exist; run a scenario first "
+                         "(arealaw run SCENARIO.toml --store PATH)")
+    return ResultStore(path)
+
+
+def _positive_int(text):
+    import argparse
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
+    return n
+
+
+def register(sub):
+    p = sub.add_parser("run", help="run a TOML scenario into a result store",
+                       description="Expand a scenario into cases and compute those not yet "
+                                   "stored.", epilog=RUN_EPILOG, formatter_class=HelpFormatter)
+    p.add_argument("scenario", metavar="SCENARIO.toml")
+    _run_options(p)
+    p.set_defaults(func=cmd_run)
+
+    p = sub.add_parser("results", help="list or export what a store holds",
+                       epilog=RESULTS_EPILOG, formatter_class=HelpFormatter,
+                       description="Stored cases: a table, or JSON / CSV for other tools.")
+    p.add_argument("--store", required=True, metavar="PATH")
+    p.add_argument("--family", help="only this family")
+    fmt = p.add_mutually_exclusive_group()
+    fmt.add_argument("--json", action="store_true", help="a JSON list, one object per case")
+    fmt.add_argument("--csv", action="store_true", help="CSV, one row per case")
+    p.set_defaults(func=cmd_results)
+
+    p = sub.add_parser("fit", help="fit the scaling law of each swept family",
+                       epilog=FIT_EPILOG, formatter_class=HelpFormatter,
+                       description="Weighted least-squares fit of entropy against region size.")
+    _fit_options(p)
+    p.add_argument("--json", action="store_true", help="print one JSON object per fit, as a list")
+    p.set_defaults(func=cmd_fit)
+
+    p = sub.add_parser("plot", help="figures of a store (PNG)", formatter_class=HelpFormatter,
+                       description="Scaling fits with residuals, entanglement energies and region "
+                                   "slices, as PNG files.")
+    _fit_options(p)
+    p.add_argument("--out", default="figures", metavar="DIR", help="folder (default: figures)")
+    p.set_defaults(func=cmd_plot)
+
+    p = sub.add_parser("report", help="one self-contained HTML report of a store",
+                       formatter_class=HelpFormatter,
+                       description="Tables, fits and figures of a store in one HTML file.")
+    _fit_options(p, family=False)
+    p.add_argument("--out", default="report.html", metavar="FILE",
+                   help="HTML file (default: report.html)")
+    p.add_argument("--title", default="", help="report title")
+    p.set_defaults(func=cmd_report)
+
+    p = sub.add_parser("demo", help="run the bundled demo sweep, fit it and write a report",
+                       formatter_class=HelpFormatter,
+                       description="Area law of balls in a 3-D lattice plus one mutual-"
+                                   "information pair: runs, fits and writes DIR/report.html.")
+    p.add_argument("--out", default="arealaw-demo", metavar="DIR",
+                   help="output folder (default: arealaw-demo)")
+    p.add_argument("--save-scenario", metavar="FILE",
+                   help="write the demo scenario to FILE and stop (edit it, then arealaw run)")
+    p.add_argument("--workers", type=_positive_int, default=min(2, os.cpu_count() or 1),
+                   metavar="N", help="local worker processes (default: up to 2)")
+    p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    p.set_defaults(func=cmd_demo)
+
+
+def _run_options(p):
+    p.add_argument("--store", metavar="PATH",
+                   help="SQLite result store (default: <out>/results.sqlite, out from the "
+                        "scenario)")
+    p.add_argument("--workers", type=_positive_int, default=1, metavar="N",
+                   help="local worker processes (default 1)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="dask.distributed scheduler, e.g. tcp://head-node:8786")
+    p.add_argument("--scheduler-timeout", type=float, default=20.0, metavar="SECONDS",
+                   help="how long to try reaching the scheduler (default 20)")
+    p.add_argument("--no-progress", action="store_true", help="no progress bar")
+
+
+def _fit_options(p, family=True):
+    p.add_argument("--store", required=True, metavar="PATH")
+    if family:
+        p.add_argument("--family", help="only this family")
+    p.add_argument("--measure", default="entropy", metavar="M",
+                   help="entropy (default) or renyi:N, e.g. renyi:2")
+    p.add_argument("--power", nargs="+", type=float, default=[], metavar="P",
+                   help="extra correction terms R^P (e.g. 1 or -1)")
+    p.add_argument("--endpoints", type=int, choices=(1, 2), default=2,
+                   help="1-D only: region endpoints, c = 3a (2) or 6a (1)")
+
+
+def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout=20.0):
+    from .._sweep import connect, run_cases
+    client = connect(scheduler, timeout=scheduler_timeout) if scheduler else None
+    try:
+        with _store(store_path, must_exist=False) as store:
+            store.begin_run(scenario.title, scenario.source)
+            t0 = time.perf_counter()
+            summary = run_cases(scenario.cases, store, workers=workers, scheduler=client,
+                                progress=progress)
+    finally:
+        if client is not None:
+            client.close()
+        seconds = time.perf_counter() - t0
+    for case, err in summary.failed:
+        print(f"arealaw run: case {case.family} {case.label} failed: {err}", file=sys.stderr)
+    print(f"{summary.done} cases computed, {summary.skipped} already stored, "
+          f"{len(summary.failed)} failed in {seconds:.1f} s; store: {store_path}")
+    return 1 if summary.failed else 0
+
+
+def cmd_run(args):
+    from .._scenario import load_scenario
+    scenario = load_scenario(args.scenario)
+    store = args.store or str(Path(scenario.out) / "results.sqlite")
+    return _sweep(scenario, store, args.workers, args.scheduler, not args.no_progress,
+                  args.scheduler_timeout)
+
+
+def _flat(row):
+    out = {k: row.get(k) for k in ("case", "family", "label", "x", "lattice", "network", "region",
+                                   "region_sites", "region_b", "method", "entropy",
+                                   "error_bound")}
+    for k, v in (row.get("renyi") or {}).items():
+        out[f"renyi_{k}"] = v
+    for k in ("mutual_information", "mutual_information_error_bound", "boundary_bonds",
+              "seconds", "computed_at", "run_id", "version"):
+        out[k] = row.get(k)
+    return out
+
+
+def cmd_results(args):
+    with _store(args.store) as store:
+        rows = store.rows(args.family)
+    if args.json:
+        print_json([{k: v for k, v in r.items() if k != "spec"} for r in rows])
+        return 0
+    flat = [_flat(r) for r in rows]
+    if args.csv:
+        fields = []
+        for r in flat:
+            fields += [k for k in r if k not in fields]
+        w = csv.DictWriter(sys.stdout, fieldnames=fields, lineterminator="\n")
+        w.writeheader()
+        w.writerows(flat)
+        return 0
+    if not rows:
+        print(f"store {args.store}: no results")
+        return 0
+    print(f"{'case':16}  {'family':14}  {'label':16}  {'sites':>6}  {'entropy':>14}  "
+          f"{'error':>8}  method")
+    for r in flat:
+        print(f"{r['case']:16}  {r['family'][:14]:14}  {r['label'][:16]:16}  "
+              f"{r['region_sites']:>6}  {r['entropy']:>14.10g}  {r['error_bound']:>8.2g}  "
+              f"{r['method']}")
+    return 0
+
+
+def _fits(args, store):
+    from .._fits import fit_rows
+    from .._report import fit_groups, group_name
+    rows = store.rows(getattr(args, "family", None))
+    if not rows:
+        what = f"family {args.family!r}" if getattr(args, "family", None) else "anything"
+        raise ValueError(f"store {args.store!r} holds no results for {what}; see "
+                         f"arealaw results --store {args.store}")
+    groups = fit_groups(rows)
+    if not groups:
+        raise ValueError("no family with a swept region size to fit (e.g. ball = {from = 2, "
+                         "to = 6})")
+    return [(group_name(k), fit_rows(g, measure=args.measure, powers=args.power,
+                                     endpoints=args.endpoints), g) for k, g in groups.items()]
+
+
+def cmd_fit(args):
+    with _store(args.store) as store:
+        fits = _fits(args, store)
+    if args.json:
+        print_json([{"family": name, "measure": args.measure, **fit.to_dict()}
+                    for name, fit, _ in fits])
+        return 0
+    for name, fit, _ in fits:
+        print(f"{name}: {fit.law}  ({fit.sizes.size} points, chi2/dof {fit.chi2_red:.3g})")
+        for n, v, e in zip(fit.names, fit.coefficients, fit.stderr):
+            drift = fit.drift.get(n)
+            d = f"  drift {drift:.2g} dropping up to {len(fit.stability[n])} smallest" \
+                if drift is not None else ""
+            print(f"  {n:8} {v:+.8g} ± {e:.2g}{d}")
+        if fit.central_charge is not None:
+            print(f"  central charge c = {fit.central_charge:.6g} ± "
+                  f"{fit.central_charge_stderr:.2g}")
+    return 0
+
+
+def _slug(name):
+    return "".join(ch if ch.isalnum() else "_" for ch in name).strip("_") or "family"
+
+
+def cmd_plot(args):
+    from .._plots import energies_figure, figure_png, scaling_figure
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    written = []
+    with _store(args.store) as store:
+        for name, fit, rows in _fits(args, store):
+            path = out / f"{_slug(name)}_fit.png"
+            figure_png(scaling_figure(fit, title=name, measure=args.measure), path)
+            written.append(path)
+            largest = max(rows, key=lambda r: r["x"])
+            if largest.get("entanglement_energies"):
+                path = out / f"{_slug(name)}_energies.png"
+                figure_png(energies_figure(largest["entanglement_energies"],
+                                           title=f"{name}: {largest['label']}"), path)
+                written.append(path)
+            path = out / f"{_slug(name)}_region.png"
+            if _region_png(largest, path):
+                written.append(path)
+    for p in written:
+        print(p)
+    return 0
+
+
+def _region_png(row, path):
+    from .._plots import figure_png, region_figure
+    from .._specs import network_from_spec, region_from_spec
+    net = network_from_spec(row["spec"]["network"])
+    if net.lattice is None or net.is_infinite:
+        return False
+    reg = region_from_spec(net, row["spec"]["region"])
+    figure_png(region_figure(net, reg, title=f"{row['family']}: {row['label']}"), path)
+    return True
+
+
+def cmd_report(args):
+    from .._report import write_report
+    with _store(args.store) as store:
+        path = write_report(store, args.out, title=args.title, powers=args.power,
+                            endpoints=args.endpoints)
+    print(path)
+    return 0
+
+
+def demo_scenario_text():
+    """The bundled demo scenario (TOML text)."""
+    return (files("arealaw") / "data" / "demo.toml").read_text(encoding="utf-8")
+
+
+def cmd_demo(args):
+    from .._fits import fit_rows
+    from .._report import fit_groups, write_report
+    from .._scenario import parse_scenario
+    text = demo_scenario_text()
+    if args.save_scenario:
+        Path(args.save_scenario).write_text(text, encoding="utf-8")
+        print(f"demo scenario written to {args.save_scenario}; run it with "
+              f"arealaw run {args.save_scenario}")
+        return 0
+    scenario = parse_scenario(text, source="demo.toml")
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    store_path = out / "results.sqlite"
+    t0 = time.perf_counter()
+    status = _sweep(scenario, str(store_path), args.workers, None, not args.no_progress)
+    with _store(store_path) as store:
+        for key, rows in fit_groups(store.rows()).items():
+            fit = fit_rows(rows)
+            print(f"{key[0]}: {fit.law}: " + ", ".join(
+                f"{n} = {v:.5g} ± {e:.2g}" for n, v, e in
+                zip(fit.names, fit.coefficients, fit.stderr)))
+        report = write_report(store, out / "report.html", title=scenario.title)
+    print(f"report: {report}  (total {time.perf_counter() - t0:.1f} s)")
+    return status

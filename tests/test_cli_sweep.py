@@ -1,0 +1,146 @@
+"""The sweep commands: run, results, fit, plot, report, demo — and their one-line errors."""
+
+import csv
+import io
+import json
+
+import pytest
+from numpy.testing import assert_allclose
+
+from arealaw._scenario import load_scenario
+from arealaw.cli import main
+
+SCENARIO = """
+title = "tiny chain"
+[numerics]
+method = "dense"
+renyi = [2]
+energies = 4
+[lattices.chain]
+shape = [60]
+mass = 0.05
+[[family]]
+name = "intervals"
+box = {from = 4, to = 24, step = 4}
+[[pair]]
+name = "two intervals"
+a = {box = [4], origin = [10]}
+b = {box = [4], origin = [20]}
+"""
+
+
+@pytest.fixture(scope="module")
+def swept(tmp_path_factory):
+    d = tmp_path_factory.mktemp("cli")
+    scen = d / "tiny.toml"
+    scen.write_text(SCENARIO)
+    store = d / "tiny.sqlite"
+    assert main(["run", str(scen), "--store", str(store), "--no-progress"]) == 0
+    return d, scen, store
+
+
+def _out(capsys, argv, status=0):
+    capsys.readouterr()
+    try:
+        code = main(argv)
+    except SystemExit as exc:  # argparse errors
+        code = exc.code
+    assert code == status
+    return capsys.readouterr()
+
+
+def test_rerun_skips_everything(swept, capsys):
+    d, scen, store = swept
+    out = _out(capsys, ["run", str(scen), "--store", str(store), "--no-progress"]).out
+    assert "0 cases computed, 7 already stored, 0 failed" in out
+
+
+def test_results_json_has_case_and_entropy(swept, capsys):
+    _, scen, store = swept
+    rows = json.loads(_out(capsys, ["results", "--store", str(store), "--json"]).out)
+    keys = {c.key for c in load_scenario(scen).cases}
+    assert {r["case"] for r in rows} == keys
+    assert all(isinstance(r["entropy"], float) and r["entropy"] > 0 for r in rows)
+    (pair,) = [r for r in rows if r["family"] == "two intervals"]
+    assert_allclose(pair["mutual_information"],
+                    pair["entropy"] + pair["entropy_b"] - pair["entropy_ab"], rtol=1e-12)
+
+
+def test_results_csv_and_table(swept, capsys):
+    _, _, store = swept
+    text = _out(capsys, ["results", "--store", str(store), "--csv", "--family", "intervals"]).out
+    rows = list(csv.DictReader(io.StringIO(text)))
+    assert len(rows) == 6 and {"case", "entropy", "renyi_2", "error_bound"} <= set(rows[0])
+    table = _out(capsys, ["results", "--store", str(store)]).out
+    assert table.count("\n") == 8 and "intervals" in table
+
+
+def test_fit_json(swept, capsys):
+    _, _, store = swept
+    (fit,) = json.loads(_out(capsys, ["fit", "--store", str(store), "--json"]).out)
+    assert fit["family"] == "intervals" and fit["dim"] == 1 and fit["points"] == 6
+    assert set(fit["coefficients"]) == {"log", "const"}
+    assert fit["central_charge"]["endpoints"] == 2
+    text = _out(capsys, ["fit", "--store", str(store), "--measure", "renyi:2"]).out
+    assert "central charge" in text
+
+
+def test_plot_writes_pngs(swept, capsys, tmp_path):
+    _, _, store = swept
+    out = _out(capsys, ["plot", "--store", str(store), "--out", str(tmp_path / "fig")]).out
+    paths = out.split()
+    assert len(paths) == 3
+    for p in paths:
+        with open(p, "rb") as f:
+            assert f.read(8) == b"\x89PNG\r\n\x1a\n"
+
+
+def test_report_is_self_contained_html(swept, capsys, tmp_path):
+    _, _, store = swept
+    path = tmp_path / "r.html"
+    _out(capsys, ["report", "--store", str(store), "--out", str(path), "--title", "T"])
+    html = path.read_text()
+    assert html.startswith("<!DOCTYPE html>") and "<title>T</title>" in html
+    assert html.count("data:image/png;base64,") >= 3
+    assert "http://" not in html and "https://" not in html and "<script" not in html
+    assert "Mutual information" in html and "central charge" in html
+
+
+def test_demo_save_scenario(tmp_path, capsys):
+    path = tmp_path / "demo.toml"
+    _out(capsys, ["demo", "--save-scenario", str(path)])
+    sc = load_scenario(path)
+    assert sc.cases and sc.cases[0].network["shape"] and len(sc.cases[0].network["shape"]) == 3
+
+
+@pytest.mark.slow
+def test_demo_runs_end_to_end(tmp_path, capsys):
+    out = _out(capsys, ["demo", "--out", str(tmp_path / "demo"), "--no-progress"]).out
+    assert "0 failed" in out and "report:" in out
+    assert (tmp_path / "demo" / "report.html").stat().st_size > 10000
+
+
+ERRORS = [
+    ("missing-scenario", ["run", "nope.toml"], "does not exist"),
+    ("bad-scenario", ["run", "{bad}"], "'colour'"),
+    ("workers", ["run", "{scen}", "--workers", "0"], "must be >= 1"),
+    ("no-store", ["results", "--store", "nope.sqlite"], "does not exist"),
+    ("not-a-store", ["results", "--store", "{junk}"], "not an arealaw result store"),
+    ("measure", ["fit", "--store", "{store}", "--measure", "renyi:7"], "renyi:7"),
+    ("unknown-family", ["fit", "--store", "{store}", "--family", "zzz"], "'zzz'"),
+    ("no-scheduler", ["run", "{scen}", "--store", "{tmp}/x.sqlite", "--scheduler",
+                      "tcp://127.0.0.1:9", "--scheduler-timeout", "1"], "dask scheduler"),
+]
+
+
+@pytest.mark.parametrize("argv, fragment", [e[1:] for e in ERRORS], ids=[e[0] for e in ERRORS])
+def test_errors_are_one_line_and_exit_2(swept, tmp_path, capsys, argv, fragment, monkeypatch):
+    d, scen, store = swept
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "bad.toml").write_text(SCENARIO + "colour = 3\n")
+    (tmp_path / "junk.sqlite").write_bytes(b"not a database" * 200)
+    fill = {"scen": str(scen), "store": str(store), "bad": str(tmp_path / "bad.toml"),
+            "junk": str(tmp_path / "junk.sqlite"), "tmp": str(tmp_path)}
+    argv = [a.format(**fill) for a in argv]
+    err = _out(capsys, argv, status=2).err
+    assert err.count("\n") == 1 and fragment in err, err
