@@ -146,3 +146,4 @@ from .reductions import RadialMethod, TransverseMethod  # noqa: E402  (they buil
 register_method(RadialMethod())
 register_method(TransverseMethod())
 
+register_method(BlockMethod("sparse"))

@@ -6,6 +6,7 @@ name used in ``method=``.  New backends register themselves with :func:`register
 
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._dense import DenseBackend, dense_correlators
+from ._multigrid import IllConditionedWarning, SparseBackend
 
 _REGISTRY = {}
 
@@ -31,8 +32,10 @@ def backend_names():
 
 
 register_backend(DenseBackend())
+register_backend(SparseBackend())
 
 __all__ = sorted([
-    "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "backend_names",
+    "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "IllConditionedWarning",
+    "SparseBackend", "backend_names",
     "dense_correlators", "get_backend", "register_backend",
 ])

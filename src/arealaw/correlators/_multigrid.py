@@ -1,0 +1,372 @@
+"""General sparse correlators: contour quadrature of V^{-1/2} with shifted solves on a Schur complement.
+
+With K = M^{-1/2} V M^{-1/2} and K^{-1/2} = (2/π) ∫₀^∞ (t² + K)^{-1} dt,
+
+    X = ½ M^{-1/2} K^{-1/2} M^{-1/2} = (1/π) ∫₀^∞ (V + t² M)^{-1} dt ≈ ½ Σ_j w_j (V + σ_j M)^{-1},
+
+with the Hale–Higham–Trefethen (2008) nodes σ_j > 0, w_j > 0 (:mod:`._contour`), and P = V X M.
+Only a block of each (V + σM)^{-1} is needed.  With C the core sites and B the rest, the Schur
+complement gives [(H)^{-1}]_CC = (H_CC − H_CB H_BB^{-1} H_BC)^{-1}, H = V + σM, and H_BC touches
+only the sites of B next to C: the shifted solves have one right-hand side per inner-boundary site
+of C (not per site), and only the outer-boundary rows of their solutions are kept.
+
+Engines for the solves with H_BB (chosen by the condition number κ and the structure of M):
+
+* ``'multishift'`` (diagonal M, moderate κ): M is scaled to the identity and one multishift CG
+  run serves every shift, cost ∝ √κ — a Lanczos-class method that keeps only boundary rows.
+* ``'amg'`` (general M, or large κ): CG per shift preconditioned with pyamg smoothed
+  aggregation; the number of shifts grows like ln κ.
+
+Column blocks run in parallel processes (joblib), BLAS pinned to one thread each.
+"""
+
+import math
+import os
+import warnings
+import weakref
+
+import numpy as np
+import scipy.linalg
+import scipy.sparse as sp
+from joblib import Parallel, delayed
+from threadpoolctl import threadpool_limits
+
+from .._errors import ConvergenceError, UnsupportedMethodError
+from .._memory import require_memory
+from ._base import Assessment, Blocks, CorrelatorBackend
+from ._contour import inverse_sqrt_rule
+from ._interval import gershgorin, is_diagonal, pencil_interval
+from ._shifted import amg_shifted_cg, multishift_cg
+
+__all__ = ["IllConditionedWarning", "SparseBackend"]
+
+_EPS = np.finfo(float).eps
+#: Condition numbers above this trigger :class:`IllConditionedWarning`.
+ILL_CONDITIONED = 1e8
+#: Multishift CG costs ~½√κ ln(2/ε) matrix products per column, AMG-CG ~ 8 ln(2/ε) per shift.
+_AMG_WORK_PER_SHIFT = 8.0
+
+
+class IllConditionedWarning(UserWarning):
+    """V is nearly singular (tiny mass): many poles and slow solves; the results stay bounded."""
+
+
+def _cpu_count():
+    try:
+        return len(os.sched_getaffinity(0))
+    except AttributeError:  # pragma: no cover
+        return os.cpu_count() or 1
+
+
+class SparseBackend(CorrelatorBackend):
+    """Correlator blocks of any network with sparse SPD V and M (no symmetry assumed).
+
+    Parameters
+    ----------
+    engine : {'auto', 'multishift', 'amg'}
+        Solver for the shifted systems (see the module notes); 'auto' chooses by κ and M.
+    rtol : float, optional
+        Relative residual of the shifted solves (default: derived from ``tol``).
+    maxiter : int, optional
+        Iteration limit of the solves (default: from κ); exceeding it raises
+        :class:`~arealaw.ConvergenceError` with the residual reached.
+    n_jobs : int, optional
+        Worker processes for column blocks (default: all cores, only for large problems).
+    block_size : int
+        Right-hand sides per block of the multishift engine.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic
+    >>> from arealaw.correlators import SparseBackend, dense_correlators
+    >>> net = hypercubic((6, 6), mass=0.5)
+    >>> b = SparseBackend().blocks(net, [14, 15], tol=1e-10)
+    >>> x, p, _ = dense_correlators(net)
+    >>> bool(abs(b.x - x[14:16, 14:16]).max() < 1e-9 and b.x_error < 1e-8)
+    True
+    """
+
+    name = "sparse"
+
+    def __init__(self, *, engine="auto", rtol=None, maxiter=None, n_jobs=None, block_size=32):
+        if engine not in ("auto", "multishift", "amg"):
+            raise ValueError(f"engine={engine!r}; choose 'auto', 'multishift' or 'amg'")
+        self.engine = engine
+        self.rtol = rtol
+        self.maxiter = maxiter
+        self.n_jobs = n_jobs
+        self.block_size = int(block_size)
+        self._cache = (lambda: None, None)
+
+    # -- cost model ----------------------------------------------------------------------------
+    def assess(self, network, n_rows, *, tol):
+        if network.is_infinite:
+            return Assessment(False, "the sparse method needs a finite network (V is not formed "
+                                     "for an infinite lattice); use method='spectral'")
+        n = network.n_sites
+        v = network.potential
+        nnz = v.nnz + (0 if network.kinetic is None else network.kinetic.nnz)
+        kappa = self._kappa_guess(network)
+        d = network.ndim or 3
+        n_rhs = min(n_rows, 2 * d * max(n_rows, 1) ** ((d - 1) / d)) if n_rows < n else 0
+        iters = 0.5 * math.sqrt(kappa) * math.log(2 / tol)
+        seconds = 3e-9 * nnz * n_rhs * iters + 3e-10 * n_rows ** 3 * 10 + 1e-6 * nnz
+        nbytes = 8.0 * n * 4 * min(self.block_size, max(n_rhs, 1)) * max(1, _cpu_count()) \
+            + 60.0 * nnz + 8.0 * 3 * n_rows ** 2
+        return Assessment(True, f"contour quadrature + shifted CG on {n} sites "
+                                f"(κ ≈ {kappa:.2g})", nbytes, seconds)
+
+    def _kappa_guess(self, network):
+        ref, cached = self._cache
+        if ref() is network:
+            return cached["hi"] / cached["lo"]
+        lo, hi = gershgorin(network.potential)
+        d = network.ndim or 3
+        lo = max(lo, hi / max(network.n_sites, 2) ** (2.0 / d))
+        return hi / lo
+
+    # -- setup (cached per network) ------------------------------------------------------------
+    def _prepare(self, network):
+        ref, cached = self._cache
+        if ref() is network:
+            return cached
+        v, m = network.potential, network.kinetic
+        diag_m = m is None or is_diagonal(m)
+        if diag_m:
+            d = np.ones(v.shape[0]) if m is None else m.diagonal()
+            if np.any(d <= 0):
+                raise ValueError("kinetic M is not positive definite (a diagonal entry is <= 0)")
+            s = sp.diags(1 / np.sqrt(d))
+            a = (s @ v @ s).tocsr()
+            a = 0.5 * (a + a.T)
+            lo, hi, info = pencil_interval(a)
+            prep = {"diag": True, "a": a.tocsr(), "d": d, "lo": lo, "hi": hi, "m_lo": 1.0,
+                    "m_hi": 1.0, "interval": info}
+        else:
+            lo, hi, info = pencil_interval(v, m)
+            m_lo, m_hi, _ = pencil_interval(m)
+            prep = {"diag": False, "a": v, "m": m, "lo": lo, "hi": hi, "m_lo": m_lo,
+                    "m_hi": m_hi, "interval": info}
+        self._cache = (weakref.ref(network), prep)
+        return prep
+
+    # -- blocks --------------------------------------------------------------------------------
+    def blocks(self, network, rows, cols=None, *, tol):
+        if network.is_infinite:
+            raise UnsupportedMethodError("the sparse method needs a finite network; an infinite "
+                                         "lattice is served by method='spectral'")
+        rows = np.asarray(rows, dtype=np.int64)
+        cols = rows if cols is None else np.asarray(cols, dtype=np.int64)
+        n = network.n_sites
+        for name, idx in (("rows", rows), ("cols", cols)):
+            if idx.size and (idx.min() < 0 or idx.max() >= n):
+                raise ValueError(f"{name} contains site indices outside 0..{n - 1}")
+        union = np.union1d(rows, cols)
+        prep = self._prepare(network)
+        lo, hi = prep["lo"], prep["hi"]
+        kappa = hi / lo
+        rule = inverse_sqrt_rule(lo, hi, tol=0.25 * tol)
+        engine = self._choose_engine(prep, kappa, rule.n_nodes, tol)
+        if kappa > ILL_CONDITIONED:
+            warnings.warn(f"V is ill-conditioned: condition number of the pencil (V, M) about "
+                          f"{kappa:.3g}; using {rule.n_nodes} poles and the {engine!r} engine "
+                          "(add a mass or Dirichlet walls for a faster, better-conditioned "
+                          "problem)", IllConditionedWarning, stacklevel=2)
+        if prep["diag"]:
+            core = union
+        else:
+            vm = abs(network.potential) + abs(prep["m"])
+            core = np.union1d(union, vm[union].indices)
+        y_cc, y_rc, outer, err, diag_info = self._schur(prep, core, rule, engine, tol,
+                                                        with_outer=prep["diag"])
+        if prep["diag"]:
+            x, p, x_err, p_err = self._assemble_diag(prep, union, y_cc, y_rc, outer, err, rule)
+        else:
+            x, p, x_err, p_err = self._assemble_general(network, prep, union, core, y_cc, err,
+                                                        rule)
+        ri = np.searchsorted(union, rows)
+        ci = np.searchsorted(union, cols)
+        info = {"engine": engine, "poles": rule.n_nodes, "spectral_interval": (lo, hi),
+                "condition_number": kappa, "quadrature_rel_error": rule.rel_error,
+                "interval_method": prep["interval"]["method"], **diag_info}
+        return Blocks(x[np.ix_(ri, ci)], p[np.ix_(ri, ci)], float(x_err), float(p_err), info)
+
+    def _choose_engine(self, prep, kappa, n_poles, tol):
+        if self.engine != "auto":
+            if self.engine == "multishift" and not prep["diag"]:
+                raise ValueError("engine='multishift' needs a diagonal kinetic matrix M; use "
+                                 "engine='amg' or 'auto'")
+            return self.engine
+        if not prep["diag"]:
+            return "amg"
+        return "multishift" if 0.5 * math.sqrt(kappa) < _AMG_WORK_PER_SHIFT * n_poles else "amg"
+
+    def _rtol(self, tol, kappa):
+        if self.rtol is not None:
+            return float(self.rtol)
+        return float(min(1e-3, max(1e-13, 1e-2 * tol / math.sqrt(kappa))))
+
+    def _maxiter(self, kappa, rtol, engine):
+        if self.maxiter is not None:
+            return int(self.maxiter)
+        if engine == "amg":
+            return 500
+        return int(20 + 2 * math.sqrt(kappa) * math.log(2 / rtol))
+
+    # -- the Schur complement on the core ------------------------------------------------------
+    def _schur(self, prep, core, rule, engine, tol, *, with_outer):
+        """Σ_j ½ w_j [(H_j)^{-1}] on core×core (and outer×core), with error bounds."""
+        a = prep["a"]
+        m = None if prep["diag"] else prep["m"]
+        n = a.shape[0]
+        in_core = np.zeros(n, dtype=bool)
+        in_core[core] = True
+        rest = np.flatnonzero(~in_core)
+        c = core.size
+        require_memory(8.0 * (rule.n_nodes + 3) * c * c, f"the dense core blocks of {c} sites",
+                       "use a smaller region")
+        a_cc = a[core][:, core].toarray()
+        m_cc = np.eye(c) if m is None else m[core][:, core].toarray()
+        coupling = abs(a[rest][:, core]) if m is None else abs(a[rest][:, core]) + \
+            abs(m[rest][:, core])
+        coupling = coupling.tocsr()
+        outer_local = np.flatnonzero(np.diff(coupling.indptr))  # rows of B next to the core
+        inner = np.unique(coupling.indices)  # core positions next to B
+        outer = rest[outer_local]
+        shifts, weights = rule.shifts, rule.weights
+        lam_h = (prep["lo"] + shifts) * prep["m_lo"]  # λ_min(V + σM) ≥ (λ_lo + σ) μ_min(M)
+        rtol = self._rtol(tol, rule.hi / rule.lo)
+        maxiter = self._maxiter(rule.hi / rule.lo, rtol, engine)
+        info = {"core_sites": int(c), "boundary_rhs": int(inner.size),
+                "outer_rows": int(outer.size), "solver_rtol": rtol}
+        n_s = shifts.size
+        if rest.size and inner.size:
+            a_bb = a[rest][:, rest].tocsr()
+            a_bj = a[rest][:, core[inner]].tocsc()
+            m_bb = None if m is None else m[rest][:, rest].tocsr()
+            m_bj = None if m is None else m[rest][:, core[inner]].tocsc()
+            z, resid, iters = self._solve(engine, a_bb, m_bb, a_bj, m_bj, shifts, outer_local,
+                                          rtol, maxiter)
+            info["iterations"] = int(iters)
+            a_jr = a[core[inner]][:, outer].toarray()
+            m_jr = None if m is None else m[core[inner]][:, outer].toarray()
+        else:
+            z = np.zeros((n_s, 0, inner.size))
+            resid = np.zeros((n_s, inner.size))
+            a_jr = m_jr = np.zeros((inner.size, 0))
+            info["iterations"] = 0
+        y_cc = np.zeros((c, c))
+        y_rc = np.zeros((outer.size, c)) if with_outer else None
+        e_cc = e_rc = 0.0
+        for j, sigma in enumerate(shifts):
+            h_jr = a_jr if m_jr is None else a_jr + sigma * m_jr
+            s = a_cc + sigma * m_cc
+            s[np.ix_(inner, inner)] -= h_jr @ z[j]
+            s = 0.5 * (s + s.T)
+            try:
+                fac = scipy.linalg.cho_factor(s, lower=True)
+            except np.linalg.LinAlgError:
+                raise ValueError("the Schur complement of V + σM is not positive definite: V "
+                                 "or M is not symmetric positive definite") from None
+            yj = scipy.linalg.cho_solve(fac, np.eye(c))
+            yj = 0.5 * (yj + yj.T)
+            wj = 0.5 * weights[j]
+            y_cc += wj * yj
+            # Error bounds (spectral norms; Frobenius where cheaper): δZ = H_BB^{-1} R, so
+            # ‖δZ‖ ≤ ‖R‖_F/λ_H; δS = H_JR δZ_R; Ỹ − Y = Ỹ δS Y with ‖Y‖ ≤ 1/λ_H.
+            lh = lam_h[j]
+            res_f = float(np.sqrt(np.sum(resid[j] ** 2)))
+            e_z = res_f / lh + 4 * math.sqrt(max(info["iterations"], 1)) * _EPS * res_f / lh
+            h_norm = _norm2_bound(h_jr)
+            e_s = h_norm * e_z + 8 * c * _EPS * (float(np.abs(s).sum(axis=1).max()))
+            # Crude but always valid: ‖Ỹ − Y‖ ≤ ‖Ỹ‖ + ‖Y‖ (‖Ỹ‖ ≤ its largest absolute row sum).
+            e_y = float(np.abs(yj).sum(axis=1).max()) + 1 / lh
+            if e_s < 0.5 * lh:
+                e_y = min(e_y, e_s / lh ** 2 / (1 - e_s / lh))
+            e_cc += wj * e_y
+            if with_outer:
+                zr = z[j]
+                yrc = -zr @ yj[inner]
+                y_rc += wj * yrc
+                e_rc += wj * (e_z * (1 / lh + e_y) + _spectral_norm(zr) * e_y)
+        err = {"x_cc": e_cc, "x_rc": e_rc}
+        return y_cc, y_rc, outer, err, info
+
+    def _solve(self, engine, a_bb, m_bb, a_bj, m_bj, shifts, keep, rtol, maxiter):
+        n_rhs = a_bj.shape[1]
+        if engine == "multishift":
+            bs = max(1, self.block_size)
+            work = a_bb.nnz * n_rhs
+            n_jobs = self.n_jobs or (_cpu_count() if work > 2e8 and n_rhs > bs else 1)
+            # Equal blocks, a multiple of the worker count, none larger than block_size.
+            n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
+            bs = math.ceil(n_rhs / n_chunks)
+            chunks = [slice(i, min(i + bs, n_rhs)) for i in range(0, n_rhs, bs)]
+            n_jobs = min(n_jobs, len(chunks))
+            tasks = (delayed(_multishift_chunk)(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter)
+                     for sl in chunks)
+            if n_jobs > 1:
+                require_memory(8.0 * a_bb.shape[0] * 4 * bs * n_jobs + 40.0 * a_bb.nnz * n_jobs,
+                               f"{n_jobs} parallel multishift CG blocks", "set n_jobs=1")
+                out = Parallel(n_jobs=n_jobs, backend="loky")(tasks)
+            else:
+                out = [_multishift_chunk(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter)
+                       for sl in chunks]
+            z = np.concatenate([o[0] for o in out], axis=2)
+            resid = np.concatenate([o[1] for o in out], axis=1)
+            return z, resid, max(o[2] for o in out)
+
+        def rhs(sigma):
+            f = a_bj if m_bj is None else a_bj + sigma * m_bj
+            return f.toarray()
+
+        return amg_shifted_cg(a_bb, m_bb, shifts, rhs, keep, rtol=rtol, maxiter=maxiter)
+
+    # -- assembly of X and P -------------------------------------------------------------------
+    def _assemble_diag(self, prep, union, y_cc, y_rc, outer, err, rule):
+        a, d = prep["a"], prep["d"]
+        # P' = V' X' on the core: X' known on the core and the outer rows, which is all V' reaches.
+        both = np.concatenate([union, outer])
+        a_cb = a[union][:, both].toarray()
+        xs = np.vstack([y_cc, y_rc])
+        p_s = a_cb @ xs
+        p_s = 0.5 * (p_s + p_s.T)
+        sq = np.sqrt(d[union])
+        x = y_cc / sq[:, None] / sq[None, :]
+        p = p_s * sq[:, None] * sq[None, :]
+        e_solver = math.hypot(err["x_cc"], err["x_rc"])
+        x_err = (err["x_cc"] + 0.5 * rule.abs_error) / float(d[union].min())
+        p_err = (_norm2_bound(a_cb) * e_solver + 0.5 * rule.x_abs_error
+                 + 8 * both.size * _EPS * float(np.abs(p_s).max())) * float(d[union].max())
+        return x, p, x_err, p_err
+
+    def _assemble_general(self, network, prep, union, core, y_cc, err, rule):
+        v, m = network.potential, prep["m"]
+        ui = np.searchsorted(core, union)
+        v_uc = v[union][:, core].toarray()
+        m_cu = m[core][:, union].toarray()
+        x = y_cc[np.ix_(ui, ui)]
+        p = v_uc @ y_cc @ m_cu
+        p = 0.5 * (p + p.T)
+        x_err = err["x_cc"] + 0.5 * rule.abs_error / prep["m_lo"]
+        p_err = (_norm2_bound(v_uc) * err["x_cc"] * _norm2_bound(m_cu)
+                 + 0.5 * rule.x_abs_error * prep["m_hi"] + 8 * core.size * _EPS
+                 * float(np.abs(p).max()))
+        return x, p, x_err, p_err
+
+
+def _spectral_norm(a):
+    return float(np.linalg.norm(a, 2)) if a.size else 0.0
+
+
+def _norm2_bound(a):
+    """‖a‖₂ ≤ √(‖a‖₁ ‖a‖_∞)."""
+    if a.size == 0:
+        return 0.0
+    aa = np.abs(a)
+    return math.sqrt(float(aa.sum(axis=0).max()) * float(aa.sum(axis=1).max()))
+
+
+def _multishift_chunk(a_bb, f_sparse, shifts, keep, rtol, maxiter):
+    with threadpool_limits(limits=1):
+        return multishift_cg(a_bb, f_sparse.toarray(), shifts, keep, rtol=rtol, maxiter=maxiter)

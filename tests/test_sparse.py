@@ -1,0 +1,214 @@
+"""The general sparse backend (contour quadrature + shifted solves) against the dense reference."""
+
+import math
+
+import numpy as np
+import pytest
+import scipy.sparse as sp
+from numpy.testing import assert_allclose
+
+from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy, from_sites,
+                     hypercubic)
+from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_correlators,
+                                 get_backend)
+from arealaw.correlators._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
+from arealaw.correlators._shifted import amg_shifted_cg, multishift_cg
+
+
+def _general_mass(n, seed):
+    """A non-diagonal sparse SPD kinetic matrix: diagonally dominant, random symmetric pattern."""
+    rng = np.random.default_rng(seed)
+    i = rng.integers(0, n, 3 * n)
+    j = rng.integers(0, n, 3 * n)
+    off = sp.coo_matrix((-0.1 * rng.random(3 * n), (i, j)), shape=(n, n)).tocsr()
+    off = off + off.T
+    off.setdiag(0)
+    off.eliminate_zeros()
+    dom = np.asarray(abs(off).sum(axis=1)).ravel()
+    return (off + sp.diags(0.5 + dom + rng.random(n))).tocsr()
+
+
+def _lattice_cases():
+    yield "1d-dirichlet-massless", hypercubic(60)
+    yield "1d-periodic-mass-disorder", hypercubic(48, mass=0.2, mass_disorder=0.5,
+                                                  boundary="periodic", seed=3)
+    yield "2d-open-coupling-disorder", hypercubic((12, 10), mass=0.3, boundary="open",
+                                                  coupling_disorder=0.6, seed=4)
+    yield "2d-mixed-inertia", hypercubic((10, 9), mass=0.4, boundary=("dirichlet", "periodic"),
+                                         inertia=np.linspace(0.5, 2.0, 90))
+    yield "3d-dirichlet-disorder", hypercubic((7, 6, 6), mass=0.2, mass_disorder=0.5,
+                                              coupling_disorder=0.3, seed=5)
+    net = hypercubic((9, 9), mass=0.3, mass_disorder=0.4, boundary="periodic", seed=6)
+    yield "2d-general-M", OscillatorNetwork(net.potential, _general_mass(81, 7),
+                                            lattice=None, coords=net.coords())
+
+
+CASES = list(_lattice_cases())
+
+
+def _region(net, seed):
+    rng = np.random.default_rng(seed)
+    return np.sort(rng.choice(net.n_sites, size=min(25, net.n_sites // 3), replace=False))
+
+
+ENGINE_CASES = [(name, net, eng) for name, net in CASES for eng in ("multishift", "amg")
+                if not (eng == "multishift" and name.endswith("general-M"))]
+
+
+@pytest.mark.parametrize("name,net,engine", ENGINE_CASES,
+                         ids=[f"{c[0]}-{c[2]}" for c in ENGINE_CASES])
+def test_blocks_match_dense_and_bounds_are_honest(name, net, engine):
+    rows = _region(net, 1)
+    x, p, _ = dense_correlators(net)
+    b = SparseBackend(engine=engine).blocks(net, rows, tol=1e-10)
+    ex = np.linalg.norm(b.x - x[np.ix_(rows, rows)], 2)
+    ep = np.linalg.norm(b.p - p[np.ix_(rows, rows)], 2)
+    assert ex <= 1e-10 and ep <= 1e-10
+    assert ex <= b.x_error and ep <= b.p_error
+    assert b.x_error < 1e-7 and b.p_error < 1e-6
+    assert b.info["engine"] == engine
+
+
+def test_multishift_refuses_general_mass():
+    name, net = CASES[-1]
+    with pytest.raises(ValueError, match="diagonal kinetic"):
+        SparseBackend(engine="multishift").blocks(net, [0, 1], tol=1e-8)
+
+
+def test_cross_blocks_rows_differ_from_cols():
+    net = hypercubic((8, 8), mass=0.3, mass_disorder=0.5, seed=2)
+    x, p, _ = dense_correlators(net)
+    rows, cols = np.array([3, 4, 5, 11]), np.array([40, 41, 50])
+    b = SparseBackend().blocks(net, rows, cols, tol=1e-10)
+    assert_allclose(b.x, x[np.ix_(rows, cols)], atol=1e-10)
+    assert_allclose(b.p, p[np.ix_(rows, cols)], atol=1e-10)
+
+
+@pytest.mark.parametrize("name,net", CASES[2:], ids=[c[0] for c in CASES[2:]])
+def test_entropy_matches_dense(name, net):
+    region = np.sort(np.random.default_rng(9).choice(net.n_sites, 20, replace=False))
+    reg = from_sites(net, region)
+    ref = entropy(net, reg, method="dense", renyi=(2,))
+    res = entropy(net, reg, method="sparse", renyi=(2,))
+    assert abs(res.entropy - ref.entropy) <= 1e-9
+    assert abs(res.entropy - ref.entropy) <= res.error_bound
+    assert abs(res.renyi["2"] - ref.renyi["2"]) <= 1e-9
+
+
+def test_entropy_3d_ball_matches_dense():
+    net = hypercubic((11, 11, 11), mass=0.25, mass_disorder=0.5, seed=11)
+    reg = ball(net, 2.5)
+    ref = entropy(net, reg, method="dense")
+    res = entropy(net, reg, method="sparse")
+    assert abs(res.entropy - ref.entropy) <= 1e-9
+    assert abs(res.entropy - ref.entropy) <= res.error_bound
+
+
+def test_whole_network_region_has_no_complement():
+    net = hypercubic((5, 4), mass=0.5, mass_disorder=0.3, seed=1)
+    x, p, _ = dense_correlators(net)
+    rows = np.arange(net.n_sites)
+    b = SparseBackend().blocks(net, rows, tol=1e-10)
+    assert_allclose(b.x, x, atol=1e-10)
+    assert_allclose(b.p, p, atol=1e-10)
+
+
+@pytest.mark.parametrize("engine", ["multishift", "amg"], ids=["multishift", "amg"])
+def test_tiny_maxiter_raises_convergence_error(engine):
+    net = hypercubic((30, 30), mass=0.1)
+    with pytest.raises(ConvergenceError, match="residual"):
+        SparseBackend(engine=engine, maxiter=2).blocks(net, box(net, (4, 4)).indices, tol=1e-10)
+
+
+def test_indefinite_user_matrix_small():
+    v = sp.diags([np.full(49, -1.0), np.full(50, 1.5), np.full(49, -1.0)], [-1, 0, 1])
+    net = OscillatorNetwork(v, check=False)
+    with pytest.raises(ValueError, match="not positive definite"):
+        SparseBackend().blocks(net, [10, 11], tol=1e-8)
+
+
+def test_indefinite_user_matrix_large_uses_iterative_check():
+    n = 2500  # above the dense-interval limit: LOBPCG finds the negative eigenvalue
+    v = sp.diags([np.full(n - 1, -1.0), np.full(n, 1.9), np.full(n - 1, -1.0)], [-1, 0, 1])
+    net = OscillatorNetwork(v, check=False)
+    with pytest.raises(ValueError, match="not positive definite"):
+        SparseBackend().blocks(net, [10, 11], tol=1e-8)
+
+
+def test_ill_conditioned_warns_with_condition_and_poles():
+    net = hypercubic(40, mass=1e-4, boundary="periodic")
+    rows = np.array([0, 1, 2])
+    with pytest.warns(IllConditionedWarning, match=r"condition number .* poles"):
+        b = SparseBackend().blocks(net, rows, tol=1e-8)
+    assert b.info["condition_number"] > 1e8
+    x, p, _ = dense_correlators(net)
+    assert np.linalg.norm(b.x - x[np.ix_(rows, rows)], 2) <= b.x_error
+    assert np.linalg.norm(b.p - p[np.ix_(rows, rows)], 2) <= b.p_error
+    assert_allclose(b.x, x[np.ix_(rows, rows)], rtol=1e-6)
+
+
+def test_assess_and_registry():
+    be = get_backend("sparse")
+    assert isinstance(be, SparseBackend)
+    net = hypercubic((20, 20), mass=0.2, mass_disorder=0.5, seed=1)
+    a = be.assess(net, 30, tol=1e-10)
+    assert a.ok and a.seconds > 0 and a.bytes > 0
+    assert not be.assess(hypercubic(("inf", 4), mass=1.0), 10, tol=1e-10).ok
+
+
+def test_reported_interval_contains_spectrum():
+    net = hypercubic((9, 8), mass=0.3, mass_disorder=0.5, boundary="open", seed=8)
+    b = SparseBackend().blocks(net, [5, 6], tol=1e-8)
+    lam = np.linalg.eigvalsh(net.potential.toarray())
+    lo, hi = b.info["spectral_interval"]
+    assert lo <= lam[0] and hi >= lam[-1] and lo > 0
+
+
+# -- the quadrature rule ------------------------------------------------------------------------
+
+@pytest.mark.parametrize("kappa,tol,nodes", [(1e4, 1e-8, 13), (1e4, 1e-12, 18), (1e8, 1e-8, 22),
+                                             (1e8, 1e-12, 32)],
+                         ids=["k1e4-t1e-8", "k1e4-t1e-12", "k1e8-t1e-8", "k1e8-t1e-12"])
+def test_node_count_matches_hht(kappa, tol, nodes):
+    # Hale, Higham & Trefethen 2008, SIAM J. Numer. Anal. 46, 2505: error ≈ 4 exp(−2π²N/ln 16κ);
+    # node counts as listed in REFERENCES.md entry 7.
+    assert hht_node_count(kappa, tol) == nodes
+    rule = inverse_sqrt_rule(1.0, kappa, tol=tol)
+    assert rule.n_nodes == nodes
+    assert rule.rel_error <= tol
+    # the measured error follows the HHT estimate within a factor 2
+    assert 0.5 <= rule.rel_error / hht_error_estimate(nodes, kappa) <= 2.0
+
+
+def test_rule_is_accurate_at_random_points_with_positive_poles():
+    rng = np.random.default_rng(0)
+    rule = inverse_sqrt_rule(0.01, 50.0, tol=1e-11)
+    x = np.exp(rng.uniform(math.log(0.01), math.log(50.0), 500))
+    assert np.all(rule.shifts > 0) and np.all(rule.weights > 0)
+    assert np.max(np.abs(rule(x) * np.sqrt(x) - 1)) <= rule.rel_error <= 1e-11
+    assert np.max(np.abs(rule(x) - x ** -0.5)) <= rule.abs_error
+
+
+def test_rule_rejects_bad_interval():
+    with pytest.raises(ValueError, match="spectral interval"):
+        inverse_sqrt_rule(0.0, 1.0, tol=1e-8)
+
+
+# -- the shifted solvers ------------------------------------------------------------------------
+
+def test_shifted_solvers_match_direct_solves():
+    net = hypercubic((10, 10), mass=0.3, mass_disorder=0.5, seed=1)
+    a = net.potential
+    rng = np.random.default_rng(0)
+    f = rng.standard_normal((a.shape[0], 4))
+    shifts = np.array([0.02, 0.5, 7.0, 300.0])
+    keep = np.arange(0, a.shape[0], 5)
+    dense = a.toarray()
+    z1, r1, _ = multishift_cg(a, f, shifts, keep, rtol=1e-12, maxiter=500)
+    z2, r2, _ = amg_shifted_cg(a, None, shifts, lambda s: f, keep, rtol=1e-12, maxiter=500)
+    for j, s in enumerate(shifts):
+        exact = np.linalg.solve(dense + s * np.eye(a.shape[0]), f)[keep]
+        assert_allclose(z1[j], exact, atol=1e-10)
+        assert_allclose(z2[j], exact, atol=1e-10)
+    assert np.all(r1 <= 1e-12 * np.linalg.norm(f, axis=0) * 1.0001)
+    assert np.all(r2 <= 1.5e-12 * np.linalg.norm(f, axis=0))
