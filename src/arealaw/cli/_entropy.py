@@ -5,6 +5,7 @@ import math
 
 from .._entropy import DEFAULT_TOL, entropy, logarithmic_negativity
 from .._methods import method_names
+from ..reductions import radial_lattice, shells
 from .._specs import network_from_spec, region_from_spec
 from ._common import HelpFormatter, parse_extent, parse_order, print_json
 
@@ -16,6 +17,9 @@ EPILOG = """examples:
   arealaw entropy --shape 30 30 --mass 0.1 --boundary periodic dirichlet --ball 6 --json
   arealaw entropy --shape 40 --mass 0.2 --box 5 --origin 5 --box-b 5 --origin-b 20
   arealaw entropy --potential V.npz --kinetic M.npz --sites region.txt
+  arealaw entropy --radial 60 --dim 3 --shells 10               ball by partial waves
+  arealaw entropy --shape 20 inf inf --boundary dirichlet periodic periodic --half-space 0 10
+                                                                entropy per unit area
 
 Sites are in C order (last axis fastest); coordinates are 0-based site indices.
 """
@@ -63,6 +67,13 @@ def register(sub):
     lat.add_argument("--seed", type=int, help="seed of the disorder")
     lat.add_argument("--potential", metavar="V.npz", help="potential matrix (scipy save_npz)")
     lat.add_argument("--kinetic", metavar="M.npz", help="kinetic matrix (scipy save_npz)")
+    rad = p.add_argument_group("radial lattice (balls by partial waves, Srednicki 1993)")
+    rad.add_argument("--radial", type=int, metavar="N",
+                     help="N radial sites (Dirichlet wall at N+1) instead of --shape")
+    rad.add_argument("--dim", type=int, metavar="D", help="dimension of the radial lattice: 2 or "
+                                                         "3 (default 3)")
+    rad.add_argument("--shells", type=int, metavar="n",
+                     help="the ball: first n radial sites, radius n + 1/2")
     _region_options(p)
     _region_options(p, "-b")
     out = p.add_argument_group("measures and numerics")
@@ -97,7 +108,31 @@ def _region_spec(args, suffix=""):
     return {k: v for k, v in spec.items() if v is not None}
 
 
+def _radial_case(args):
+    """Network and region for --radial; None when --radial is not given."""
+    if args.radial is None:
+        for flag, value in (("--dim", args.dim), ("--shells", args.shells)):
+            if value is not None:
+                raise ValueError(f"{flag} belongs to the radial lattice; add --radial N")
+        return None
+    clash = [f for f, v in (("--shape", args.shape), ("--potential", args.potential),
+                            ("--boundary", args.boundary), ("--coupling", args.coupling))
+             if v is not None] + [f"--{k.replace('_', '-')}" for k in _region_spec(args)] \
+        + [f"--{k.replace('_', '-')}-b" for k in _region_spec(args, "-b")]
+    if clash:
+        raise ValueError(f"--radial cannot be combined with {clash[0]}; the radial lattice is "
+                         "set by --radial, --dim, --mass and its region by --shells")
+    if args.shells is None:
+        raise ValueError("--radial needs --shells n (the ball of the first n radial sites)")
+    net = radial_lattice(args.radial, dim=3 if args.dim is None else args.dim,
+                         mass=args.mass or 0.0)
+    return net, shells(net, args.shells)
+
+
 def run(args):
+    radial = _radial_case(args)
+    if radial is not None:
+        return _report(args, *radial, None)
     net = _network(args)
     spec_a = _region_spec(args)
     if not spec_a:
@@ -108,9 +143,15 @@ def run(args):
     region_b = region_from_spec(net, spec_b) if spec_b else None
     if args.negativity and region_b is None:
         raise ValueError("--negativity needs a second region (--box-b, --ball-b, ...)")
+    return _report(args, net, region, region_b)
+
+
+def _report(args, net, region, region_b):
     res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
                   tol=args.tol, energies=args.energies)
     out = res.to_dict()
+    if "lmax" in res.info:  # partial waves: the explicit angular-momentum cut-off
+        out["lmax"] = res.info["lmax"]
     if args.negativity:
         out["negativity"], _ = logarithmic_negativity(net, region, region_b, method=res.method,
                                                       tol=args.tol)
@@ -130,6 +171,12 @@ def _summary(d):
              f"region           {d['region']} ({d['region_sites']} sites)",
              f"method           {d['method']} — {d['reason']}",
              f"entropy          {_fmt(d['entropy'])}  (error bound {d['error_bound']:.2g})"]
+    if d.get("entropy_per_area") is not None:
+        lines.append(f"entropy per area {_fmt(d['entropy_per_area'])}  (per unit boundary area; "
+                     "Rényi values and bounds below are per area too)")
+    if d.get("lmax") is not None:
+        lines.append(f"l cut-off        {d['lmax']} summed exactly, tail integrated "
+                     f"(estimate {d['info']['l_tail_estimate']:.6g})")
     for k, v in d["renyi"].items():
         lines.append(f"Rényi S_{k:<9} {_fmt(v)}  (error bound {d['renyi_error_bound'][k]:.2g})")
     if "mutual_information" in d:
