@@ -6,11 +6,16 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
+from ._memory import available_bytes
 from ._network import OscillatorNetwork
 
 __all__ = ["BOUNDARIES", "HypercubicLattice", "hypercubic"]
 
 BOUNDARIES = ("dirichlet", "periodic", "open")
+
+#: Uniform lattices with more sites than this defer assembling V until a method asks for it;
+#: where it would not fit in memory, ``network.potential`` is then None (V is not formed).
+DEFERRED_ASSEMBLY_SITES = 2**22
 
 
 @dataclass(frozen=True)
@@ -160,10 +165,24 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
     )
     if infinite:
         return OscillatorNetwork(None, lattice=spec, check=False)
-    v = _assemble(shape, masses, couplings, boundaries, coupling_disorder, rng)
-    kinetic = None if np.ndim(inertias) == 0 and inertias == 1.0 else sp.diags(
-        np.broadcast_to(inertias, (n_sites,)).astype(float), format="csr")
-    return OscillatorNetwork(v, kinetic, lattice=spec, check=False)
+
+    def matrices():
+        v = _assemble(shape, masses, couplings, boundaries, coupling_disorder, rng)
+        kinetic = None if np.ndim(inertias) == 0 and inertias == 1.0 else sp.diags(
+            np.broadcast_to(inertias, (n_sites,)).astype(float), format="csr")
+        return v, kinetic
+
+    if n_sites > DEFERRED_ASSEMBLY_SITES and spec.is_uniform:
+        return OscillatorNetwork(lambda: _checked_matrices(matrices, n_sites, len(shape)),
+                                 lattice=spec, check=False)
+    return OscillatorNetwork(*matrices(), lattice=spec, check=False)
+
+
+def _checked_matrices(matrices, n_sites, d):
+    # about (2d + 1) stored entries per site, 8-byte values and indices, plus assembly temporaries
+    if 4 * (2 * d + 1) * 16.0 * n_sites > 0.8 * available_bytes():
+        return None, None  # V cannot be formed here; like an infinite lattice's, it stays None
+    return matrices()
 
 
 def _site_values(value, shape, n_sites, name, *, allow_zero):

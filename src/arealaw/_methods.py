@@ -147,3 +147,4 @@ register_method(RadialMethod())
 register_method(TransverseMethod())
 
 register_method(BlockMethod("sparse"))
+register_method(BlockMethod("spectral"))

@@ -48,6 +48,15 @@ class OscillatorNetwork:
 
     def __init__(self, potential, kinetic=None, *, coords=None, lattice=None, check=True):
         self.lattice = lattice
+        self._factory = None
+        if callable(potential) and lattice is not None and not lattice.is_infinite:
+            # Deferred assembly (huge lattices): ``potential()`` returns (V, M or None) and runs
+            # only when a method asks for the matrices; exact spectral methods never do.
+            self._factory = potential
+            self._potential = self._kinetic = None
+            self.n_sites = int(np.prod(lattice.shape, dtype=np.int64))
+            self._coords = None
+            return
         if potential is None:
             if lattice is None or not lattice.is_infinite:
                 raise ValueError("potential=None is only allowed for a lattice with an infinite axis")
@@ -79,6 +88,38 @@ class OscillatorNetwork:
             if self.kinetic is not None:
                 _check_spd(self.kinetic, "kinetic M", check_pd=True)
 
+    # -- matrices (assembled on first use when deferred) --------------------------------------
+    def _assemble(self):
+        factory, self._factory = self._factory, None
+        self._potential, self._kinetic = factory()
+
+    @property
+    def potential(self):
+        """Potential matrix V (csr); None where V is not formed (infinite or too large)."""
+        if self._factory is not None:
+            self._assemble()
+        return self._potential
+
+    @potential.setter
+    def potential(self, value):
+        self._potential = value
+
+    @property
+    def kinetic(self):
+        """Kinetic matrix M (csr), or None for the identity."""
+        if self._factory is not None:
+            self._assemble()
+        return self._kinetic
+
+    @kinetic.setter
+    def kinetic(self, value):
+        self._kinetic = value
+
+    @property
+    def is_deferred(self):
+        """True while V of a huge lattice has not been assembled (see :func:`hypercubic`)."""
+        return self._factory is not None
+
     # -- structure -----------------------------------------------------------------------------
     @property
     def is_infinite(self):
@@ -88,6 +129,8 @@ class OscillatorNetwork:
     @property
     def has_identity_kinetic(self):
         """True when M is the identity."""
+        if self._factory is not None:
+            return np.ndim(self.lattice.inertia) == 0 and self.lattice.inertia == 1.0
         return self.kinetic is None
 
     @property

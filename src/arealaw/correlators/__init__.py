@@ -7,6 +7,7 @@ name used in ``method=``.  New backends register themselves with :func:`register
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._dense import DenseBackend, dense_correlators
 from ._multigrid import IllConditionedWarning, SparseBackend
+from ._spectral import SpectralBackend, spectral_correlators
 
 _REGISTRY = {}
 
@@ -33,9 +34,11 @@ def backend_names():
 
 register_backend(DenseBackend())
 register_backend(SparseBackend())
+register_backend(SpectralBackend())
 
 __all__ = sorted([
     "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "IllConditionedWarning",
     "SparseBackend", "backend_names",
-    "dense_correlators", "get_backend", "register_backend",
+    "SpectralBackend", "dense_correlators", "get_backend", "register_backend",
+    "spectral_correlators",
 ])

@@ -105,6 +105,9 @@ class SparseBackend(CorrelatorBackend):
                                      "for an infinite lattice); use method='spectral'")
         n = network.n_sites
         v = network.potential
+        if v is None:
+            return Assessment(False, "V of this lattice is too large to form; use "
+                                     "method='spectral'")
         nnz = v.nnz + (0 if network.kinetic is None else network.kinetic.nnz)
         kappa = self._kappa_guess(network)
         d = network.ndim or 3
