@@ -84,3 +84,26 @@ def test_bad_input_names_the_supported_method():
     cube = al.hypercubic((6, 6, 6), mass=0.5)
     with pytest.raises(al.UnsupportedMethodError, match="method='dense'"):
         al.entropy(cube, al.ball(cube, 1.5), method=RadialMethod())
+
+
+def test_cli_radial_json(capsys):
+    import json
+
+    from arealaw.cli import main
+    assert main(["entropy", "--radial", "30", "--dim", "3", "--shells", "5", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["method"] == "radial" and doc["lmax"] == doc["info"]["lmax"] >= 40
+    assert_allclose(doc["entropy"], radial_entropy(30, 5).entropy, rtol=1e-12)
+
+
+@pytest.mark.parametrize("argv,message", [
+    (["--radial", "30", "--dim", "4", "--shells", "5"], "d = 2 and 3"),
+    (["--radial", "30"], "--radial needs --shells"),
+    (["--shape", "10", "--shells", "3"], "add --radial N"),
+    (["--radial", "30", "--shells", "5", "--box", "3"], "cannot be combined with --box"),
+], ids=["dim4", "no-shells", "shells-alone", "with-box"])
+def test_cli_radial_bad_input(argv, message, capsys):
+    from arealaw.cli import main
+    assert main(["entropy", *argv]) == 2
+    err = capsys.readouterr().err
+    assert message in err and err.count("\n") == 1

@@ -97,3 +97,17 @@ def test_bad_input_names_the_supported_method():
         al.entropy(inf, al.slab(inf, 0, 2, 5), method="transverse")
     with pytest.raises(al.UnsupportedMethodError):
         al.entropy(inf, al.half_space(inf, 0, 3), method="dense")
+
+
+def test_cli_per_area_json(capsys):
+    import json
+
+    from arealaw.cli import main
+    argv = ["entropy", "--shape", "10", "inf", "--boundary", "dirichlet", "periodic",
+            "--mass", "0.1", "--half-space", "0", "5", "--json"]
+    assert main(argv) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["entropy"] is None and doc["method"] == "transverse"
+    net = al.hypercubic((10, "inf"), mass=0.1, boundary=DIRICHLET_PERIODIC)
+    assert_allclose(doc["entropy_per_area"],
+                    al.entropy(net, al.half_space(net, 0, 5)).entropy_per_area, rtol=1e-12)
