@@ -96,7 +96,7 @@ def test_entropy_matches_dense(name, net):
 
 
 def test_entropy_3d_ball_matches_dense():
-    net = hypercubic((11, 11, 11), mass=0.25, mass_disorder=0.5, seed=11)
+    net = hypercubic((9, 9, 9), mass=0.25, mass_disorder=0.5, seed=11)
     reg = ball(net, 2.5)
     ref = entropy(net, reg, method="dense")
     res = entropy(net, reg, method="sparse")

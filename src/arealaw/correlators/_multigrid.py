@@ -337,9 +337,11 @@ class SparseBackend(CorrelatorBackend):
         sq = np.sqrt(d[union])
         x = y_cc / sq[:, None] / sq[None, :]
         p = p_s * sq[:, None] * sq[None, :]
-        e_solver = math.hypot(err["x_cc"], err["x_rc"])
         x_err = (err["x_cc"] + 0.5 * rule.abs_error) / float(d[union].min())
-        p_err = (_norm2_bound(a_cb) * e_solver + 0.5 * rule.x_abs_error
+        k = union.size
+        e_solver = (_norm2_bound(a_cb[:, :k]) * err["x_cc"]
+                    + _norm2_bound(a_cb[:, k:]) * err["x_rc"])
+        p_err = (e_solver + 0.5 * rule.x_abs_error
                  + 8 * both.size * _EPS * float(np.abs(p_s).max())) * float(d[union].max())
         return x, p, x_err, p_err
 
