@@ -186,3 +186,38 @@ def test_refuses_what_it_cannot_serve(net):
         spectral_correlators(net, [0, 1])
     res = al.entropy(net, al.from_sites(net, [0, 1]))
     assert res.method != "spectral"
+
+
+@pytest.mark.parametrize("case,radius", [
+    (dict(shape=(9, 9, 9), mass=0.0, boundary="dirichlet"), 3.0),
+    (dict(shape=(10, 8, 9), mass=0.3, boundary=("open", "periodic", "dirichlet"),
+          coupling=(1.0, 0.7, 1.3)), 2.6),
+    (dict(shape=(16, 15), mass=0.2, boundary=("dirichlet", "open"), inertia=1.7), 5.0),
+], ids=["ball-3d-dirichlet-odd", "ball-3d-mixed", "disc-2d"])
+def test_reflection_sectors_give_the_dense_entropy(case, radius):
+    net = al.hypercubic(**case)
+    reg = al.ball(net, radius)
+    spec = al.entropy(net, reg, method="spectral", renyi=[3])
+    dense = al.entropy(net, reg, method="dense", renyi=[3])
+    sectors = spec.spectrum.info["reflection_sectors"]
+    assert len(sectors) == 2 ** len(case["shape"]) and sum(sectors) == reg.size
+    assert abs(spec.entropy - dense.entropy) <= 1e-9
+    assert abs(spec.renyi["3"] - dense.renyi["3"]) <= 1e-9
+    assert abs(spec.entropy - dense.entropy) <= spec.error_bound + dense.error_bound
+
+
+def test_reflection_sectors_are_orthonormal_and_commute_with_x():
+    from arealaw._reflections import reflection_sectors
+    net = al.hypercubic((7, 8), mass=0.4, boundary=("dirichlet", "periodic"))
+    reg = al.box(net, (5, 4), origin=(1, 2))
+    basis = np.hstack([b.toarray() for b in reflection_sectors(net, reg.indices)])
+    assert_allclose(basis.T @ basis, np.eye(reg.size), atol=1e-14)
+    x = spectral_correlators(net, reg.indices).x
+    y = basis.T @ x @ basis
+    off = y.copy()
+    sizes = [b.shape[1] for b in reflection_sectors(net, reg.indices)]
+    start = 0
+    for m in sizes:
+        off[start:start + m, start:start + m] = 0
+        start += m
+    assert np.abs(off).max() < 1e-14

@@ -147,4 +147,7 @@ register_method(RadialMethod())
 register_method(TransverseMethod())
 
 register_method(BlockMethod("sparse"))
-register_method(BlockMethod("spectral"))
+
+from ._reflections import ReflectionBlockMethod  # noqa: E402  (builds on BlockMethod)
+
+register_method(ReflectionBlockMethod("spectral"))
