@@ -32,6 +32,16 @@ def test_3d_sum_equals_dense(normal):
                     al.entropy(net, reg, method="dense").entropy, rtol=1e-8)
 
 
+@pytest.mark.parametrize("mass", [0.0, 0.25], ids=["massless", "massive"])
+def test_3d_strip_equals_dense(mass):
+    # a strip: finite cross-section (3 x 2 sites) along the whole periodic axis 2
+    net = al.hypercubic((6, 5, 8), mass=mass, boundary=("dirichlet", "open", "periodic"))
+    reg = al.box(net, (3, 2, 8), origin=(1, 1, 0))
+    red = al.entropy(net, reg, method="transverse")
+    assert_allclose(red.entropy, al.entropy(net, reg, method="dense").entropy, rtol=1e-8)
+    assert red.info["distinct_chains"] == 5  # k and −k give equal cross-sections
+
+
 def test_agrees_with_spectral_backend():
     if "spectral" not in al.method_names():
         pytest.skip("the spectral method (scale issue) is not registered in this tree")
@@ -90,8 +100,10 @@ def test_bad_input_names_the_supported_method():
     with pytest.raises(al.UnsupportedMethodError, match="axis 1 is dirichlet.*method='dense'"):
         al.entropy(net, al.slab(net, 0, 2, 5), method="transverse")
     per = al.hypercubic((8, 6), mass=0.2, boundary=DIRICHLET_PERIODIC)
-    with pytest.raises(al.UnsupportedMethodError, match="half-spaces and slabs"):
+    with pytest.raises(al.UnsupportedMethodError, match="spans none"):
         al.entropy(per, al.box(per, 2), method="transverse")
+    with pytest.raises(al.UnsupportedMethodError, match="half-spaces, slabs and strips"):
+        al.entropy(per, al.ball(per, 1.5), method="transverse")
     inf = al.hypercubic(("inf", 6), mass=0.2, boundary=("dirichlet", "periodic"))
     with pytest.raises(al.UnsupportedMethodError, match="finite normal axis"):
         al.entropy(inf, al.slab(inf, 0, 2, 5), method="transverse")

@@ -1,4 +1,4 @@
-"""Half-spaces and slabs by transverse Fourier reduction (exact on the lattice).
+"""Half-spaces, slabs and strips by transverse Fourier reduction (exact on the lattice).
 
 On a uniform hypercubic lattice that is periodic (or infinite) along every axis but the normal
 one, transverse momenta k decouple: the region's spectrum is the union over k of the spectra of
@@ -11,6 +11,8 @@ over k = 2πq/L; infinite ones give the entropy per unit boundary area as an int
 Brillouin zone, done by graded composite Gauss–Legendre quadrature with a refinement check.
 When the normal axis is infinite too, the half-chain spectrum is known in closed form (Peschel &
 Chung 1999): entanglement energies (2j + 1)ε with ε = π K(λ′)/K(λ), λ + 1/λ = 2 + μ².
+A strip of a 3-D lattice (a box spanning one whole periodic axis) reduces the same way to boxes
+of a 2-D lattice, one per momentum along the spanned axis.
 """
 
 import math
@@ -70,15 +72,35 @@ def _lattice(network):
     return lat
 
 
+def _box_geometry(lat, region):
+    """A box spanning whole periodic axes: a strip (3-D) or a slab written as a box."""
+    size, origin = region.geometry[1], region.geometry[2]
+    spans = [a for a, (n, b) in enumerate(zip(lat.shape, lat.boundaries))
+             if b == "periodic" and size[a] == n and origin[a] == 0]
+    if not spans:
+        raise UnsupportedMethodError(
+            f"method 'transverse' serves boxes only when they span a whole periodic axis (strips, "
+            f"slabs); box {region.description} spans none: use method='dense' (or another "
+            "lattice method)")
+    axes = tuple(a for a in range(len(lat.shape)) if a not in spans)
+    if any(math.isinf(lat.shape[a]) for a in axes):
+        raise UnsupportedMethodError(
+            "method 'transverse' needs the axes a strip does not span to be finite; use "
+            "method='spectral' for boxes of infinite lattices")
+    return axes, tuple(origin[a] for a in axes), tuple(origin[a] + size[a] for a in axes)
+
+
 def _geometry(network, region):
-    """(axis, start, stop or None for a half-space of an infinite axis), checked against the lattice."""
+    """(normal axes, starts, stops or None for a half-space of an infinite axis), checked."""
     lat = _lattice(network)
     kind = region.geometry[0] if region.geometry else None
+    if kind == "box":
+        return _box_geometry(lat, region)
     if kind not in ("half_space", "slab"):
         raise UnsupportedMethodError(
-            f"method 'transverse' serves half-spaces and slabs (arealaw.half_space, arealaw.slab); "
-            f"region {region.description} is a {kind or 'general'} region: use method='dense' "
-            "(or another lattice method)")
+            f"method 'transverse' serves half-spaces, slabs and strips (arealaw.half_space, "
+            f"arealaw.slab, a box spanning periodic axes); region {region.description} is a "
+            f"{kind or 'general'} region: use method='dense' (or another lattice method)")
     axis = region.geometry[1]
     start, stop = (0, region.geometry[2]) if kind == "half_space" else region.geometry[2:4]
     for a, b in enumerate(lat.boundaries):
@@ -93,35 +115,39 @@ def _geometry(network, region):
             raise UnsupportedMethodError(
                 "method 'transverse' serves slabs only on a finite normal axis (dirichlet, open or "
                 f"periodic); axis {axis} is infinite here")
-        return axis, start, None
+        return (axis,), (start,), None
     transverse = [n for a, n in enumerate(lat.shape) if a != axis]
     if region.size and region.size != (stop - start) * int(np.prod(transverse)):
         raise UnsupportedMethodError(
             f"region {region.description} does not span the transverse axes; method 'transverse' "
             "needs a whole half-space or slab")
-    return axis, int(start), int(stop)
+    return (axis,), (int(start),), (int(stop),)
 
 
-def _chain_spectrum(lat, axis, start, stop, mu2):
-    """Spectrum of sites start..stop−1 of the 1-D chain along ``axis`` with mass² ``mu2``."""
-    j = lat.couplings[axis]
+def _chain_spectrum(lat, axes, start, stop, mu2):
+    """Spectrum of the box start..stop−1 of the sub-lattice along ``axes`` with mass² ``mu2``."""
     if stop is None:
-        return half_chain_spectrum(mu2, coupling=j)
-    chain = hypercubic(lat.shape[axis], mass=math.sqrt(max(mu2, 0.0)), coupling=j,
-                       boundary=lat.boundaries[axis], inertia=lat.inertia)
-    x, p, info = dense_correlators(chain)
-    sl = slice(start, stop)
-    return symplectic_spectrum(x[sl, sl], p[sl, sl], x_error=info["x_error"],
-                               p_error=info["p_error"])
+        return half_chain_spectrum(mu2, coupling=lat.couplings[axes[0]])
+    sub = hypercubic([lat.shape[a] for a in axes], mass=math.sqrt(max(mu2, 0.0)),
+                     coupling=[lat.couplings[a] for a in axes],
+                     boundary=[lat.boundaries[a] for a in axes], inertia=lat.inertia)
+    x, p, info = dense_correlators(sub)
+    grids = np.meshgrid(*[np.arange(b, e) for b, e in zip(start, stop)], indexing="ij")
+    rows = np.ravel_multi_index([g.ravel() for g in grids], [lat.shape[a] for a in axes])
+    ix = np.ix_(rows, rows)
+    return symplectic_spectrum(x[ix], p[ix], x_error=info["x_error"], p_error=info["p_error"])
 
 
-def _mu2(lat, axis, ks):
+def _transverse_axes(lat, axes):
+    return [a for a in range(len(lat.shape)) if a not in axes]
+
+
+def _mu2(lat, axes, ks):
     """Effective mass² for transverse momenta ``ks`` (list of arrays, one per transverse axis)."""
     mu2 = float(lat.mass) ** 2
-    axes = [a for a in range(len(lat.shape)) if a != axis]
     grids = np.meshgrid(*ks, indexing="ij") if ks else []
     total = np.full(grids[0].shape if grids else (), mu2)
-    for a, g in zip(axes, grids):
+    for a, g in zip(_transverse_axes(lat, axes), grids):
         total = total + 4 * lat.couplings[a] * np.sin(g / 2) ** 2
     return total
 
@@ -149,16 +175,16 @@ def _graded_rule(levels, nodes):
     return np.concatenate(ks), np.concatenate(ws)
 
 
-def _zone_parts(lat, axis, start, stop, levels, nodes):
-    n_t = len(lat.shape) - 1
+def _zone_parts(lat, axes, start, stop, levels, nodes):
+    n_t = len(lat.shape) - len(axes)
     k, w = _graded_rule(levels, nodes)
-    mu2 = _mu2(lat, axis, [k] * n_t)
+    mu2 = _mu2(lat, axes, [k] * n_t)
     wg = w
     for _ in range(n_t - 1):
         wg = np.multiply.outer(wg, w)
     wg = wg / math.pi**n_t  # ∫_{[−π,π]^n} d^n k/(2π)^n of an even function = (1/π^n)∫_{[0,π]^n}
     mus, ws = _grouped(mu2, wg)
-    return [(_chain_spectrum(lat, axis, start, stop, m), float(wt)) for m, wt in zip(mus, ws)]
+    return [(_chain_spectrum(lat, axes, start, stop, m), float(wt)) for m, wt in zip(mus, ws)]
 
 
 def _entropy_of(parts):
@@ -182,45 +208,46 @@ class TransverseMethod(Method):
             geos = [_geometry(network, r) for r in regions]
         except UnsupportedMethodError as exc:
             return Assessment(False, str(exc))
-        axis = geos[0][0]
-        n_normal = lat.shape[axis]
-        chain = 3e-9 * float(n_normal) ** 3 + 1e-3 if math.isfinite(n_normal) else 1e-4
-        transverse = [n for a, n in enumerate(lat.shape) if a != axis]
+        axes = geos[0][0]
+        n_normal = float(np.prod([lat.shape[a] for a in axes]))
+        chain = 3e-9 * n_normal**3 + 2e-4 if math.isfinite(n_normal) else 1e-4
+        transverse = [lat.shape[a] for a in _transverse_axes(lat, axes)]
         if all(math.isfinite(n) for n in transverse):
             n_k = int(np.prod([n // 2 + 1 for n in transverse])) if transverse else 1
             how = f"{n_k} transverse momenta"
         else:
             n_k = 2 * 150 ** len(transverse)
             how = "Brillouin-zone integral (entropy per unit area)"
-        nbytes = 40.0 * float(n_normal if math.isfinite(n_normal) else 1) ** 2
-        return Assessment(True, f"transverse reduction along axis {axis}: {how}", nbytes,
+        nbytes = 40.0 * (n_normal if math.isfinite(n_normal) else 1.0) ** 2
+        return Assessment(True, f"transverse reduction along axes {list(axes)}: {how}", nbytes,
                           len(regions) * n_k * chain)
 
     def spectrum(self, network, region, *, tol):
-        axis, start, stop = _geometry(network, region)
+        axes, start, stop = _geometry(network, region)
         lat = network.lattice
-        transverse = [n for a, n in enumerate(lat.shape) if a != axis]
+        transverse = [lat.shape[a] for a in _transverse_axes(lat, axes)]
         if any(math.isinf(n) for n in transverse):
             if not all(math.isinf(n) for n in transverse):
                 raise UnsupportedMethodError(
                     "method 'transverse' needs the transverse axes all periodic or all infinite")
-            return self._per_area(lat, axis, start, stop, tol)
+            return self._per_area(lat, axes, start, stop, tol)
         ks = [2 * np.pi * np.arange(n) / n for n in transverse]
-        mus, ws = _grouped(_mu2(lat, axis, ks), 1.0) if ks else (np.array([lat.mass**2]), [1.0])
-        parts = [(_chain_spectrum(lat, axis, start, stop, m), float(w)) for m, w in zip(mus, ws)]
+        mus, ws = _grouped(_mu2(lat, axes, ks), 1.0) if ks else (np.array([lat.mass**2]), [1.0])
+        parts = [(_chain_spectrum(lat, axes, start, stop, m), float(w)) for m, w in zip(mus, ws)]
         return combine_spectra(parts, info={"transverse_momenta": int(np.sum(ws)),
-                                            "distinct_chains": len(parts), "axis": axis})
+                                            "distinct_chains": len(parts), "axes": list(axes)})
 
-    def _per_area(self, lat, axis, start, stop, tol):
-        if lat.mass == 0 and stop is not None and lat.boundaries[axis] != "dirichlet":
-            raise ValueError("a massless lattice with a periodic/open normal axis has a zero mode "
+    def _per_area(self, lat, axes, start, stop, tol):
+        if lat.mass == 0 and stop is not None and "dirichlet" not in [lat.boundaries[a]
+                                                                      for a in axes]:
+            raise ValueError("a massless lattice with periodic/open normal axes has a zero mode "
                              "at k = 0; give a mass or a Dirichlet normal axis")
         levels, nodes = 8, 6
-        prev = _zone_parts(lat, axis, start, stop, levels, nodes)
+        prev = _zone_parts(lat, axes, start, stop, levels, nodes)
         s_prev = _entropy_of(prev)
         while True:
             levels, nodes = levels + 4, nodes + 2
-            parts = _zone_parts(lat, axis, start, stop, levels, nodes)
+            parts = _zone_parts(lat, axes, start, stop, levels, nodes)
             s = _entropy_of(parts)
             err = abs(s - s_prev)
             if err <= max(tol, self.rtol * abs(s)):
@@ -231,5 +258,5 @@ class TransverseMethod(Method):
                     f"the last two refinements ({levels} grading levels, {nodes} nodes)")
             prev, s_prev = parts, s
         return combine_spectra(parts, extra_error=err, info={
-            "per_area": True, "axis": axis, "quadrature_nodes_per_axis": (levels + 1) * nodes,
+            "per_area": True, "axes": list(axes), "quadrature_nodes_per_axis": (levels + 1) * nodes,
             "distinct_chains": len(parts), "quadrature_change": err})
