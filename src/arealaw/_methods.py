@@ -7,15 +7,78 @@ transverse momenta) implement the same two calls directly.  ``method='auto'`` as
 for an :class:`~arealaw.correlators.Assessment` and takes the cheapest that can serve.
 """
 
+import numpy as np
+
 from ._errors import UnsupportedMethodError
 from ._memory import available_bytes, format_bytes, require_memory
+from ._restricted import restricted_spectrum
 from ._spectrum import symplectic_spectrum
 from .correlators import Assessment, get_backend
 
 __all__ = ["BlockMethod", "Choice", "Method", "choose_method", "method_names", "register_method"]
 
-#: Regions above this size are sent to the restricted solver when one is registered.
+#: Regions above this size are sent to the restricted solver when one is registered (a dense
+#: eigenproblem beyond it does not fit this machine); below it the cheaper estimate decides.
 DENSE_SPECTRUM_LIMIT = 15000
+#: Smallest region for which the cost estimate may pick the restricted solver.
+RESTRICTED_MIN_SITES = 8000
+#: Seconds per flop of the dense eigenproblem and of the block-Lanczos restricted solver with
+#: dense region blocks (one BLAS thread, measured by benchmarks/bench_restricted.py).
+_DENSE_SECONDS_PER_FLOP = 2.1e-10
+_RESTRICTED_SECONDS_PER_FLOP = 1.0e-10
+
+
+def _boundary_sites(network, indices):
+    """Sites of a region coupled to its complement (from V; a d-cube estimate if V is implicit)."""
+    n = indices.size
+    pot = getattr(network, "potential", None)
+    if pot is None:
+        d = max(1, getattr(network, "ndim", 3) or 3)
+        return min(n, 2 * d * n ** ((d - 1) / d))
+    mask = np.zeros(pot.shape[0], dtype=bool)
+    mask[indices] = True
+    cut = pot.tocsr()[indices][:, ~mask]
+    return int(np.count_nonzero(np.diff(cut.indptr)))
+
+
+def restricted_modes_estimate(n, boundary, tol):
+    """Lanczos vectors the restricted solver needs: about (0.9 + 0.15·log10(1/tol))·boundary.
+
+    Measured on 3-D balls (benchmarks/bench_restricted.py): 1.5 × boundary sites at tol 1e-6,
+    2.0 × at 1e-10 with threshold tol; the default threshold tol/100 adds about 0.3.
+    """
+    per_site = 0.9 + 0.15 * max(0.0, -np.log10(tol))
+    return float(min(n, max(64.0, per_site * boundary)))
+
+
+def _dense_seconds(n):
+    return _DENSE_SECONDS_PER_FLOP * 4.0 * float(n) ** 3
+
+
+def _restricted_seconds(n, m):
+    # two products with n×n blocks per Lanczos vector plus full reorthogonalisation
+    return _RESTRICTED_SECONDS_PER_FLOP * (4.0 * float(n) ** 2 * m + 8.0 * float(n) * m * m)
+
+
+def prefer_restricted(network, indices, tol):
+    """True beyond the dense limit, or from RESTRICTED_MIN_SITES where it is estimated 2× cheaper.
+
+    Below RESTRICTED_MIN_SITES the dense solver stays: it is exact to rounding, while the
+    restricted bound carries the concavity tail (≈ 1e-7 … 1e-6 at tol = 1e-10).
+    """
+    n = indices.size
+    if n > DENSE_SPECTRUM_LIMIT:
+        return True
+    if n < RESTRICTED_MIN_SITES:
+        return False
+    m = restricted_modes_estimate(n, _boundary_sites(network, indices), tol)
+    return _restricted_seconds(n, m) < 0.5 * _dense_seconds(n)
+
+
+def restricted_block_spectrum(backend, network, rows, tol):
+    """Restricted spectrum from a backend's operators X_A, P_A (the BlockMethod hook)."""
+    x, p, x_error, p_error, info = backend.operators(network, rows, tol=tol)
+    return restricted_spectrum(x, p, tol=tol, x_error=x_error, p_error=p_error, info=info)
 
 
 class Method:
@@ -43,7 +106,7 @@ class BlockMethod(Method):
     """A method built on a correlator backend."""
 
     #: Optional restricted solver: callable(backend, network, rows, tol) -> SymplecticSpectrum.
-    restricted_solver = None
+    restricted_solver = staticmethod(restricted_block_spectrum)
 
     def __init__(self, backend_name):
         self.backend = get_backend(backend_name)
@@ -62,12 +125,18 @@ class BlockMethod(Method):
             if need > 0.8 * available_bytes():
                 return Assessment(False, f"a dense eigenproblem of {n_max} sites needs "
                                          f"{format_bytes(need)}", need)
-        cost = a.seconds + len(regions) * 4e-10 * float(n_max) ** 3
+        big = max(regions, key=lambda r: r.size)
+        if self.restricted_solver is not None and prefer_restricted(network, big.indices, tol):
+            m = restricted_modes_estimate(n_max, _boundary_sites(network, big.indices), tol)
+            cost = a.seconds + len(regions) * _restricted_seconds(n_max, m)
+            return Assessment(True, a.reason + "; restricted Lanczos spectrum",
+                              max(a.bytes, 16.0 * n_max * (n_max + m)), cost)
+        cost = a.seconds + len(regions) * _dense_seconds(n_max)
         return Assessment(True, a.reason, max(a.bytes, _dense_spectrum_bytes(n_max)), cost)
 
     def spectrum(self, network, region, *, tol):
         n = region.size
-        if n > DENSE_SPECTRUM_LIMIT and self.restricted_solver is not None:
+        if self.restricted_solver is not None and prefer_restricted(network, region.indices, tol):
             return self.restricted_solver(self.backend, network, region.indices, tol)
         require_memory(_dense_spectrum_bytes(n), f"a dense symplectic eigenproblem of {n} sites",
                        "use a smaller region or a method with a restricted solver")
