@@ -107,3 +107,9 @@ def test_cli_radial_bad_input(argv, message, capsys):
     assert main(["entropy", *argv]) == 2
     err = capsys.readouterr().err
     assert message in err and err.count("\n") == 1
+
+
+def test_parallel_sectors_match_serial():
+    serial = radial_entropy(24, 4, lmax=40, n_jobs=1)
+    parallel = radial_entropy(24, 4, lmax=40, n_jobs=2)
+    assert_allclose(parallel.entropy, serial.entropy, rtol=1e-13)
