@@ -112,7 +112,7 @@ def _normalize_block(z, pz, floor):
     return (z @ u) * inv, (pz @ u) * inv, r, keep
 
 
-def lam_ratio(r, rows):
+def _lam_ratio(r, rows):
     """Spread of the kept singular values of the block (amplification of rounding by scaling)."""
     sv = np.linalg.norm(r[rows], axis=1)
     return float(sv.max() / sv.min())
@@ -146,12 +146,13 @@ def _orthonormalize_block(z, basis, pbasis, scale, rng, p_op, pa):
         q[:, cols] = fill / safe
         pq[:, cols] = pfill / safe
     ok1 = np.flatnonzero(keep)
-    if dropped or (ok1.size and lam_ratio(r1, ok1) > 1e3):
-        # normalising mixed large and tiny columns: P q is re-formed, the update would be off
-        c2 = _project_out(q, basis, pbasis)
-        pq = _matmat(p_op, pa, q)
-    else:
-        c2 = _project_out(q, basis, pbasis, pq)
+    if not dropped and ok1.size and _lam_ratio(r1, ok1) <= 1e3:
+        # a well-conditioned block: Gram–Schmidt twice was enough
+        o, r = scipy.linalg.qr(r1)
+        return q @ o, pq @ o, h, r, dropped
+    # normalising mixed large and tiny columns amplified rounding: project again and re-form P q
+    c2 = _project_out(q, basis, pbasis)
+    pq = _matmat(p_op, pa, q)
     q, pq, r2, _ = _normalize_block(q, pq, 0.0)
     h += c2 @ r1
     o, r = scipy.linalg.qr(r2 @ r1)
@@ -375,11 +376,11 @@ def _block_lanczos(xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trac
             continue
         # done when the bound meets tol, or when the unconverged/omitted part is small beside
         # what rounding and block errors already cost (more vectors could not lower the bound)
-        if result["bound"] <= tol or result["deficit"] <= 0.1 * result["floor"]:
+        if result["bound"] <= tol or (result["consistent"] and (
+                result["deficit"] <= 0.01 * result["floor"] or _stagnated(history, 1))):
             return result, m, dropped_total, "done"
-        if _stagnated(history):
-            return result, m, dropped_total, ("done" if result["consistent"] else
-                                              "inconsistent")
+        if _stagnated(history, 3):
+            return result, m, dropped_total, "inconsistent"
     return result, m, dropped_total, "maxiter"
 
 
@@ -398,9 +399,12 @@ def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
     count = n - ks
     tail_sum = np.maximum(deficit, 0.0) + trace_err + ks * rho + count * block_err
     smallest = np.concatenate([[np.inf], theta[:k_tau]])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        mean = np.where(count > 0, tail_sum / np.maximum(count, 1), 0.0)
-    admissible = (count == 0) | (mean <= smallest)
+    mean = np.where(count > 0, tail_sum / np.maximum(count, 1), 0.0)
+    # Jensen puts the worst case in the tail while the deficit per omitted mode stays below the
+    # smallest kept t: kept modes already carry the block error δ in t_error, so their marginal
+    # entropy is s'(t_k + δ) ≤ s'(deficit/count + δ), the tail's (block errors drop out)
+    uncertain = np.maximum(deficit, 0.0) + trace_err + ks * rho
+    admissible = (count == 0) | (uncertain <= smallest * np.maximum(count, 1))
     if not admissible.any():
         return {"k": 0, "t": theta[:0], "rho": rho, "tail_sum": float(tail_sum[0]),
                 "bound": math.inf, "valid": False, "consistent": False}
@@ -410,17 +414,18 @@ def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
     k = int(np.argmin(bounds[::-1]))
     k = k_tau - k                                   # the largest k among equal bounds
     # if every mode above τ were found, the deficit could hold only modes below τ
-    consistent = deficit[k_tau] <= count[k_tau] * tau + trace_err + k_tau * rho + \
-        count[k_tau] * block_err
+    consistent = deficit[k_tau] <= count[k_tau] * tau + trace_err + k_tau * rho
     return {"k": k, "t": theta[:k], "rho": rho, "tail_sum": float(tail_sum[k]),
             "bound": float(bounds[k]), "valid": True, "consistent": bool(consistent),
             "deficit": float(max(deficit[k], 0.0)),
             "floor": float(tail_sum[k] - max(deficit[k], 0.0))}
 
 
-def _stagnated(history):
-    """The trace deficit fell by less than 10 % over the last checkpoint, with k settled."""
-    if len(history) < 3:
+def _stagnated(history, checkpoints):
+    """The trace deficit fell by less than 10 % per checkpoint, k settled, ``checkpoints`` times."""
+    if len(history) < checkpoints + 2:
         return False
-    (_, k0, b0), (_, k1, b1) = history[-2], history[-1]
-    return b1 > 0.9 * b0 and k1 <= k0 + max(1, k0 // 100)
+    for (_, k0, d0), (_, k1, d1) in zip(history[-checkpoints - 1:-1], history[-checkpoints:]):
+        if not (d1 > 0.9 * d0 and k1 <= k0 + max(1, k0 // 100)):
+            return False
+    return True
