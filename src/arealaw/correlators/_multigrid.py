@@ -32,7 +32,7 @@ from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
 from .._errors import ConvergenceError, UnsupportedMethodError
-from .._memory import require_memory
+from .._memory import available_bytes, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._contour import inverse_sqrt_rule
 from ._interval import gershgorin, is_diagonal, pencil_interval
@@ -45,6 +45,10 @@ _EPS = np.finfo(float).eps
 ILL_CONDITIONED = 1e8
 #: Multishift CG costs ~½√κ ln(2/ε) matrix products per column, AMG-CG ~ 8 ln(2/ε) per shift.
 _AMG_WORK_PER_SHIFT = 8.0
+#: Above this many sites, assess() of a uniform lattice does not assemble V.
+DEFER_LIMIT = 2**22
+#: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
+_BYTES_PER_ENTRY = 48.0
 
 
 class IllConditionedWarning(UserWarning):
@@ -104,18 +108,29 @@ class SparseBackend(CorrelatorBackend):
             return Assessment(False, "the sparse method needs a finite network (V is not formed "
                                      "for an infinite lattice); use method='spectral'")
         n = network.n_sites
-        v = network.potential
-        if v is None:
-            return Assessment(False, "V of this lattice is too large to form; use "
-                                     "method='spectral'")
-        nnz = v.nnz + (0 if network.kinetic is None else network.kinetic.nnz)
-        kappa = self._kappa_guess(network)
         d = network.ndim or 3
+        lat = network.lattice
+        if lat is not None and lat.is_uniform and n > DEFER_LIMIT:
+            # Huge uniform lattices assemble V lazily: estimate from the description instead.
+            nnz = float(n) * (2 * d + 1)
+            kappa = _uniform_kappa(lat)
+            if not math.isfinite(kappa):
+                return Assessment(False, "the lattice has a zero mode (no mass, no Dirichlet "
+                                         "wall)")
+        else:
+            v = network.potential
+            if v is None:
+                return Assessment(False, "V of this lattice is too large to form; use "
+                                         "method='spectral'")
+            nnz = v.nnz + (0 if network.kinetic is None else network.kinetic.nnz)
+            kappa = self._kappa_guess(network)
         n_rhs = min(n_rows, 2 * d * max(n_rows, 1) ** ((d - 1) / d)) if n_rows < n else 0
         iters = 0.5 * math.sqrt(kappa) * math.log(2 / tol)
         seconds = 3e-9 * nnz * n_rhs * iters + 3e-10 * n_rows ** 3 * 10 + 1e-6 * nnz
-        nbytes = 8.0 * n * 4 * min(self.block_size, max(n_rhs, 1)) * max(1, _cpu_count()) \
-            + 60.0 * nnz + 8.0 * 3 * n_rows ** 2
+        bs, jobs = self._block_plan(n, max(int(n_rhs), 1), nnz)
+        nbytes = _BYTES_PER_ENTRY * n * bs * jobs + 36.0 * nnz * (jobs + 1) + 8.0 * 3 * n_rows ** 2
+        if nbytes > 0.8 * available_bytes():
+            return Assessment(False, f"needs about {format_bytes(nbytes)} for {n} sites", nbytes)
         return Assessment(True, f"contour quadrature + shifted CG on {n} sites "
                                 f"(κ ≈ {kappa:.2g})", nbytes, seconds)
 
@@ -165,6 +180,9 @@ class SparseBackend(CorrelatorBackend):
             if idx.size and (idx.min() < 0 or idx.max() >= n):
                 raise ValueError(f"{name} contains site indices outside 0..{n - 1}")
         union = np.union1d(rows, cols)
+        if network.potential is None:
+            raise UnsupportedMethodError("V of this lattice is too large to form; use "
+                                         "method='spectral'")
         prep = self._prepare(network)
         lo, hi = prep["lo"], prep["hi"]
         kappa = hi / lo
@@ -295,21 +313,25 @@ class SparseBackend(CorrelatorBackend):
         err = {"x_cc": e_cc, "x_rc": e_rc}
         return y_cc, y_rc, outer, err, info
 
+    def _block_plan(self, n, n_rhs, nnz):
+        """(block size, workers): equal blocks, a multiple of the workers, that fit in memory."""
+        n_jobs = self.n_jobs or (_cpu_count() if nnz * n_rhs > 2e8 and n_rhs > 1 else 1)
+        fit = int(0.5 * available_bytes() / (_BYTES_PER_ENTRY * n * n_jobs))
+        bs = max(1, min(self.block_size, n_rhs, fit))
+        n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
+        return math.ceil(n_rhs / n_chunks), n_jobs
+
     def _solve(self, engine, a_bb, m_bb, a_bj, m_bj, shifts, keep, rtol, maxiter):
         n_rhs = a_bj.shape[1]
         if engine == "multishift":
-            bs = max(1, self.block_size)
-            work = a_bb.nnz * n_rhs
-            n_jobs = self.n_jobs or (_cpu_count() if work > 2e8 and n_rhs > bs else 1)
-            # Equal blocks, a multiple of the worker count, none larger than block_size.
-            n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
-            bs = math.ceil(n_rhs / n_chunks)
+            bs, n_jobs = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
             chunks = [slice(i, min(i + bs, n_rhs)) for i in range(0, n_rhs, bs)]
             n_jobs = min(n_jobs, len(chunks))
             tasks = (delayed(_multishift_chunk)(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter)
                      for sl in chunks)
             if n_jobs > 1:
-                require_memory(8.0 * a_bb.shape[0] * 4 * bs * n_jobs + 40.0 * a_bb.nnz * n_jobs,
+                require_memory(_BYTES_PER_ENTRY * a_bb.shape[0] * bs * n_jobs
+                               + 40.0 * a_bb.nnz * n_jobs,
                                f"{n_jobs} parallel multishift CG blocks", "set n_jobs=1")
                 out = Parallel(n_jobs=n_jobs, backend="loky")(tasks)
             else:
@@ -358,6 +380,15 @@ class SparseBackend(CorrelatorBackend):
                  + 0.5 * rule.x_abs_error * prep["m_hi"] + 8 * core.size * _EPS
                  * float(np.abs(p).max()))
         return x, p, x_err, p_err
+
+
+def _uniform_kappa(lat):
+    """λ_max/λ_min of a uniform hypercubic lattice from its description (plane waves)."""
+    m2 = float(lat.mass) ** 2
+    lo = m2 + sum(4 * j * math.sin(math.pi / (2 * (n + 1))) ** 2
+                  for n, j, b in zip(lat.shape, lat.couplings, lat.boundaries) if b == "dirichlet")
+    hi = m2 + 4 * sum(lat.couplings)
+    return hi / lo if lo > 0 else math.inf
 
 
 def _spectral_norm(a):
