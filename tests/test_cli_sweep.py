@@ -89,7 +89,8 @@ def test_plot_writes_pngs(swept, capsys, tmp_path):
     _, _, store = swept
     out = _out(capsys, ["plot", "--store", str(store), "--out", str(tmp_path / "fig")]).out
     paths = out.split()
-    assert len(paths) == 3
+    assert [p.rsplit('_', 1)[1] for p in paths] == ['fit.png', 'energies.png', 'region.png',
+                                                   'modes.png']
     for p in paths:
         with open(p, "rb") as f:
             assert f.read(8) == b"\x89PNG\r\n\x1a\n"
@@ -101,7 +102,7 @@ def test_report_is_self_contained_html(swept, capsys, tmp_path):
     _out(capsys, ["report", "--store", str(store), "--out", str(path), "--title", "T"])
     html = path.read_text()
     assert html.startswith("<!DOCTYPE html>") and "<title>T</title>" in html
-    assert html.count("data:image/png;base64,") >= 3
+    assert html.count("data:image/png;base64,") >= 5
     assert "http://" not in html and "https://" not in html and "<script" not in html
     assert "Mutual information" in html and "central charge" in html
 

@@ -96,3 +96,15 @@ def test_fit_rows_rejects_unknown_measure():
         fit_rows(rows, measure="renyi:3")
     with pytest.raises(ValueError, match="'area'"):
         fit_rows(rows, measure="area")
+
+
+def test_model_scatter_is_added_when_bounds_are_too_small():
+    # the bounds (1e-9) understate a scatter of 1e-3: sigma_m makes chi2/dof = 1 and the
+    # coefficients' errors then reflect the scatter (common practice, no source)
+    rng = np.random.default_rng(5)
+    r = np.linspace(2.0, 20.0, 40)
+    s = 0.3 * r**2 + 0.5 + rng.normal(0, 1e-3, r.size)
+    fit = fit_scaling(r, s, np.full(r.size, 1e-9), dim=3)
+    assert_allclose(fit.chi2_red, 1.0, rtol=1e-6)
+    assert 5e-4 < fit.model_sigma < 2e-3
+    assert abs(fit["area"] - 0.3) < 4 * fit.error("area")

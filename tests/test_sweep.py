@@ -4,7 +4,7 @@ import os
 
 import numpy as np
 import pytest
-from numpy.testing import assert_array_equal
+from numpy.testing import assert_allclose, assert_array_equal
 
 from arealaw import box, entropy, hypercubic
 from arealaw._scenario import Case, parse_scenario
@@ -107,3 +107,18 @@ def test_boundary_bonds_count_the_cut():
     assert compute_case(Case({"shape": [10, 10], "mass": 0.1},
                              {"box": [3, 3], "origin": [0, 0]}))["boundary_bonds"] == 6
     assert np.isfinite(compute_case(Case({"shape": [6], "mass": 0.1}, {"box": [3]}))["entropy"])
+
+
+def test_most_entangled_mode_is_an_eigenvector_of_xp():
+    from arealaw._plots import entangled_modes
+    from arealaw.correlators import dense_correlators
+    net = hypercubic((8, 8), mass=0.3)
+    reg = box(net, [3, 3])
+    nu, u = entangled_modes(net, reg, count=2, method="dense")
+    x, p, _ = dense_correlators(net)
+    xa, pa = x[np.ix_(reg.indices, reg.indices)], p[np.ix_(reg.indices, reg.indices)]
+    top = np.sqrt(np.sort(np.linalg.eigvals(xa @ pa).real)[::-1][:2])
+    assert_allclose(nu, top, rtol=1e-10)  # the two largest symplectic eigenvalues
+    assert_allclose(np.linalg.norm(u, axis=1), 1.0, rtol=1e-12)
+    for k in range(2):
+        assert_allclose(xa @ pa @ u[k], nu[k] ** 2 * u[k], atol=1e-12)

@@ -3,9 +3,10 @@
 The law of the dimension: in d ≥ 2, S = a·R^{d−1} + b·ln R + c (area term, logarithmic term,
 constant; Srednicki 1993, Solodukhin 2008), optionally with power corrections R^p; in d = 1,
 S = (c/3)·ln ℓ + const for an interval with two endpoints and (c/6)·ln ℓ for one (Calabrese &
-Cardy 2004, J. Stat. Mech. P06002).  Each point is weighted by its error bound; since the bounds
-cover the numerics but not the truncation of the law, the standard errors are scaled by
-sqrt(χ²/dof) whenever the scatter exceeds the bounds.
+Cardy 2004, J. Stat. Mech. P06002).  Each point is weighted by its error bound σ_i.  The bounds
+cover the numerics, not the truncation of the law: when the scatter exceeds them (χ²/dof > 1),
+a common model scatter σ_m is added in quadrature, σ_i² + σ_m², with σ_m chosen so that
+χ²/dof = 1 (common practice, no source), and reported as ``model_sigma``.
 """
 
 from dataclasses import dataclass, field
@@ -43,6 +44,9 @@ class FitResult:
     drift: dict = field(default_factory=dict)
     central_charge: float = None
     central_charge_stderr: float = None
+    size: str = "x"
+    bounds: np.ndarray = None
+    model_sigma: float = 0.0
 
     def __getitem__(self, name):
         return float(self.coefficients[self.names.index(name)])
@@ -54,8 +58,9 @@ class FitResult:
         return _design(np.asarray(sizes, float), self.dim, self.powers) @ self.coefficients
 
     def to_dict(self):
-        d = {"dim": self.dim, "law": self.law, "points": int(self.sizes.size),
-             "chi2_red": float(self.chi2_red),
+        d = {"dim": self.dim, "law": self.law, "size": self.size,
+             "points": int(self.sizes.size), "chi2_red": float(self.chi2_red),
+             "model_sigma": self.model_sigma,
              "coefficients": {n: {"value": float(v), "stderr": float(e),
                                   "drift": self.drift.get(n),
                                   "dropping_smallest": [
@@ -84,7 +89,7 @@ def _design(r, dim, powers):
     return np.stack(cols, axis=1)
 
 
-def _solve(r, s, sigma, dim, powers):
+def _solve(r, s, sigma, dim, powers, unit_weights=False):
     a = _design(r, dim, powers) / sigma[:, None]
     y = s / sigma
     coef, _, rank, sv = np.linalg.lstsq(a, y, rcond=None)
@@ -97,7 +102,12 @@ def _solve(r, s, sigma, dim, powers):
     chi2 = float(np.sum((resid / sigma) ** 2))
     chi2_red = chi2 / dof if dof > 0 else float("nan")
     cov = np.linalg.pinv(a.T @ a)
-    scale = max(chi2_red, 1.0) if dof > 0 else float("nan")
+    if dof <= 0:
+        scale = float("nan")
+    elif unit_weights:  # no error bounds: the scatter is the only estimate of the noise
+        scale = chi2_red
+    else:
+        scale = max(chi2_red, 1.0)
     return coef, np.sqrt(np.diag(cov) * scale), chi2_red, resid
 
 
@@ -160,14 +170,21 @@ def fit_scaling(sizes, values, errors=None, *, dim, powers=(), endpoints=2, max_
     if r.size < len(names):
         raise ValueError(f"{r.size} points cannot determine the {len(names)} coefficients "
                          f"({', '.join(names)}); give more sizes")
-    coef, err, chi2_red, resid = _solve(r, s, sigma, dim, powers)
+    bounds = sigma
+    model_sigma = 0.0
+    coef, err, chi2_red, resid = _solve(r, s, sigma, dim, powers, errors is None)
+    if errors is not None and chi2_red > 1.0:
+        model_sigma = _model_sigma(r, s, bounds, dim, powers)
+        sigma = np.sqrt(bounds**2 + model_sigma**2)
+        coef, err, chi2_red, resid = _solve(r, s, sigma, dim, powers)
     fit = FitResult(dim=dim, law=_law(dim, powers), names=names, coefficients=coef, stderr=err,
                     chi2_red=chi2_red, sizes=r, values=s, sigma=sigma, residuals=resid,
-                    powers=powers, endpoints=endpoints)
+                    powers=powers, endpoints=endpoints, bounds=bounds,
+                    model_sigma=float(model_sigma))
     for k in range(1, int(max_drop) + 1):
         if r.size - k <= len(names):
             break
-        c_k, e_k, _, _ = _solve(r[k:], s[k:], sigma[k:], dim, powers)
+        c_k, e_k, _, _ = _solve(r[k:], s[k:], sigma[k:], dim, powers, errors is None)
         for i, n in enumerate(names):
             fit.stability.setdefault(n, []).append((k, float(c_k[i]), float(e_k[i])))
     for i, n in enumerate(names):
@@ -180,6 +197,20 @@ def fit_scaling(sizes, values, errors=None, *, dim, powers=(), endpoints=2, max_
     return fit
 
 
+def _model_sigma(r, s, bounds, dim, powers):
+    """The scatter σ_m, added in quadrature to the bounds, that makes χ²/dof = 1 (bisection)."""
+    lo, hi = 0.0, 10.0 * float(np.ptp(s)) + 1e-300
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        if _solve(r, s, np.sqrt(bounds**2 + mid**2), dim, powers)[2] > 1.0:
+            lo = mid
+        else:
+            hi = mid
+        if hi - lo <= 1e-12 * hi:
+            break
+    return hi
+
+
 def _law(dim, powers):
     extra = "".join(f" + e·R^{p:g}" for p in powers)
     if dim == 1:
@@ -187,12 +218,18 @@ def _law(dim, powers):
     return f"S = a·R^{dim - 1} + b·ln R + c" + extra
 
 
-def fit_rows(rows, *, measure="entropy", powers=(), endpoints=2, max_drop=3):
+def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_drop=3):
     """Fit stored sweep rows (dicts with ``x``, ``dim`` and the measure) of one family.
 
     ``measure`` is ``'entropy'`` or ``'renyi:N'`` (e.g. ``'renyi:2'``); the error bounds stored
-    with each value are the weights.
+    with each value are the weights.  ``size='x'`` fits against the swept value (ball radius,
+    box side); ``size='bonds'`` (d ≥ 2) against the area-equivalent size R = B^{1/(d−1)} of the
+    number B of couplings cut by the region's boundary, so that the area coefficient is the
+    entropy per cut bond (lattice balls have jagged surfaces; B follows them exactly).  The
+    logarithmic coefficient is the same for both choices, since ln R changes by a constant.
     """
+    if size not in ("x", "bonds"):
+        raise ValueError(f"size={size!r} is not known; allowed: x (swept value), bonds")
     pts = [r for r in rows if r.get("x") is not None]
     if not pts:
         raise ValueError("this family has no swept size (x); fits need a family with a swept "
@@ -214,5 +251,15 @@ def fit_rows(rows, *, measure="entropy", powers=(), endpoints=2, max_drop=3):
         errs = [r["renyi_error_bound"][order] for r in pts]
     else:
         raise ValueError(f"measure {measure!r} is not known; allowed: entropy, renyi:N")
-    return fit_scaling([r["x"] for r in pts], vals, errs, dim=dims.pop(), powers=powers,
-                       endpoints=endpoints, max_drop=max_drop)
+    dim = dims.pop()
+    if size == "bonds":
+        if dim < 2 or any(r.get("boundary_bonds") in (None, 0) for r in pts):
+            raise ValueError("size='bonds' needs d >= 2 and a finite lattice (boundary bonds "
+                             "stored with every case); use size='x'")
+        sizes = [float(r["boundary_bonds"]) ** (1.0 / (dim - 1)) for r in pts]
+    else:
+        sizes = [r["x"] for r in pts]
+    fit = fit_scaling(sizes, vals, errs, dim=dim, powers=powers, endpoints=endpoints,
+                      max_drop=max_drop)
+    fit.size = size
+    return fit

@@ -3,7 +3,8 @@
 * :func:`scaling_figure` — S against the area term R^{d−1} (ln ℓ in 1-D) with the fit, and the
   residuals with the error bounds;
 * :func:`energies_figure` — the lowest entanglement energies of one case against their index;
-* :func:`region_figure` — a 2-D slice of the region through its centre.
+* :func:`region_figure` — a 2-D slice of the region through its centre;
+* :func:`mode_figure` — the same slice of the most entangled modes (largest ν).
 """
 
 import io
@@ -11,7 +12,8 @@ import io
 import numpy as np
 from matplotlib.figure import Figure
 
-__all__ = ["energies_figure", "figure_png", "region_figure", "scaling_figure"]
+__all__ = ["energies_figure", "entangled_modes", "figure_png", "mode_figure", "region_figure",
+           "scaling_figure"]
 
 
 def figure_png(fig, path=None, *, dpi=110):
@@ -45,8 +47,10 @@ def scaling_figure(fit, *, title="", measure="entropy"):
         x, xg, xlabel = np.log(r), np.log(grid), "ln ℓ"
     else:
         x, xg = r ** (fit.dim - 1), grid ** (fit.dim - 1)
-        xlabel = "R" if fit.dim == 2 else "R²"
-        xlabel += "  (area term)"
+        if getattr(fit, "size", "x") == "bonds":
+            xlabel = "boundary area (couplings cut)"
+        else:
+            xlabel = ("R" if fit.dim == 2 else "R²") + "  (area term)"
     ax.errorbar(x, fit.values, yerr=fit.sigma, fmt="o", ms=4, label=measure)
     ax.plot(xg, fit.predict(grid), "-", lw=1.2, label=fit.law)
     ax.set_ylabel(measure)
@@ -73,23 +77,74 @@ def energies_figure(energies, *, title=""):
     return fig
 
 
-def region_figure(network, region, *, region_b=None, title=""):
-    """A 2-D slice of the lattice through the region's centre (axis 0 fixed in 3-D)."""
-    shape = network.index_shape
+def _slice(network, region, values, extra=None):
+    """Values on the region's sites (and ``extra`` = (region, values)) → a 2-D picture through
+    the region's centre."""
     if network.lattice is None or network.is_infinite:
         raise ValueError("region pictures need a finite lattice")
-    mask = np.zeros(network.n_sites, dtype=np.int8)
-    mask[region.indices] = 1
-    if region_b is not None:
-        mask[region_b.indices] = 2
-    grid = mask.reshape(shape)
+    full = np.zeros(network.n_sites, dtype=float)
+    full[region.indices] = values
+    if extra is not None:
+        full[extra[0].indices] = extra[1]
+    grid = full.reshape(network.index_shape)
     where = ""
     if grid.ndim == 3:
         c = np.asarray(network.coords(region.indices), float).mean(axis=0)
-        i = int(round(c[0]))
+        i = int(np.floor(c[0] + 0.5))
         grid, where = grid[i], f" (slice at axis-0 coordinate {i})"
     elif grid.ndim == 1:
         grid = grid[None, :]
+    return grid, where
+
+
+def entangled_modes(network, region, *, count=2, method="auto", tol=1e-8):
+    """Site profiles u_k of the ``count`` most entangled modes of ``region`` (largest ν).
+
+    With X_A = L Lᵀ and Lᵀ P_A L w = ν² w, u = L w is the mode's profile (an eigenvector of
+    X_A P_A, unit norm).  Returns (nu, u of shape (count, region.size)); needs a method that
+    gives the region's blocks.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic, box
+    >>> net = hypercubic((10, 10), mass=0.2)
+    >>> nu, amp = entangled_modes(net, box(net, [4, 4]), count=1)
+    >>> bool(nu[0] > 0.5), amp.shape
+    (True, (1, 16))
+    """
+    import scipy.linalg
+
+    from ._methods import choose_method
+    choice = choose_method(network, [region], method, tol=tol)
+    b = choice.method.blocks(network, region.indices, tol=tol)
+    chol = scipy.linalg.cholesky(0.5 * (b.x + b.x.T), lower=True)
+    w = chol.T @ b.p @ chol
+    nu2, vec = scipy.linalg.eigh(0.5 * (w + w.T))
+    top = np.argsort(nu2)[::-1][:count]
+    u = chol @ vec[:, top]
+    u /= np.linalg.norm(u, axis=0)
+    return np.sqrt(np.maximum(nu2[top], 0.0)), u.T
+
+
+def mode_figure(network, region, *, count=2, title=""):
+    """Slices of the ``count`` most entangled modes' amplitudes (see :func:`entangled_modes`)."""
+    nu, u = entangled_modes(network, region, count=count)
+    amp = np.abs(u)
+    fig = Figure(figsize=(4.4 * len(nu), 4.0))
+    axes = np.atleast_1d(fig.subplots(1, len(nu)))
+    for k, ax in enumerate(axes):
+        grid, where = _slice(network, region, amp[k])
+        im = ax.imshow(grid, origin="lower", cmap="magma", interpolation="nearest")
+        fig.colorbar(im, ax=ax, shrink=0.8)
+        ax.set_title(f"mode {k + 1}: ν = {nu[k]:.4g}{where}", fontsize=8)
+    fig.suptitle(title or f"most entangled modes of {region.description}", fontsize=9)
+    return fig
+
+
+def region_figure(network, region, *, region_b=None, title=""):
+    """A 2-D slice of the lattice through the region's centre (axis 0 fixed in 3-D)."""
+    shape = network.index_shape
+    grid, where = _slice(network, region, 1.0, None if region_b is None else (region_b, 2.0))
     fig = Figure(figsize=(4.8, 4.2))
     ax = fig.subplots()
     ax.imshow(grid, origin="lower", cmap="Blues" if region_b is None else "viridis",

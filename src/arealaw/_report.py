@@ -6,7 +6,7 @@ import html
 import math
 
 from ._fits import fit_rows
-from ._plots import energies_figure, figure_png, region_figure, scaling_figure
+from ._plots import energies_figure, figure_png, mode_figure, region_figure, scaling_figure
 from ._specs import network_from_spec, region_from_spec
 
 __all__ = ["fit_groups", "write_report"]
@@ -53,18 +53,21 @@ def _table(headers, body):
     return "\n".join(out + ["</table>"])
 
 
-def _fit_section(key, rows, powers, endpoints):
+def _fit_section(key, rows, powers, endpoints, size):
     name = group_name(key)
     parts = [f"<h3>Fit: {html.escape(name)}</h3>"]
     try:
-        fit = fit_rows(rows, powers=powers, endpoints=endpoints)
+        fit = fit_rows(rows, powers=powers, endpoints=endpoints,
+                       size=size if rows[0]["dim"] >= 2 else "x")
     except ValueError as exc:
         return parts + [f'<p class="note">no fit: {html.escape(str(exc))}</p>'], None
     body = []
     for n, v, e in zip(fit.names, fit.coefficients, fit.stderr):
         drops = "; ".join(f"−{k}: {a:.6g}" for k, a, _ in fit.stability.get(n, []))
         body.append([n, float(v), float(e), fit.drift.get(n), drops or "—"])
-    parts.append(f"<p>{html.escape(fit.law)}, {fit.sizes.size} points, "
+    against = ("R = (boundary bonds)^(1/(d−1))" if fit.size == "bonds"
+               else "R = the swept size")
+    parts.append(f"<p>{html.escape(fit.law)} with {against}, {fit.sizes.size} points, "
                  f"χ²/dof = {_num(fit.chi2_red, 4)} (weights: error bounds)</p>")
     parts.append(_table(["coefficient", "value", "std. error", "largest drift",
                          "dropping smallest sizes"], body))
@@ -75,19 +78,32 @@ def _fit_section(key, rows, powers, endpoints):
     return parts, fit
 
 
-def _picture(row):
+#: Largest region whose most entangled modes the report draws (a dense eigenproblem).
+MODE_PICTURE_LIMIT = 3000
+
+
+def _picture(row, modes=False):
     spec = row["spec"]
     net = network_from_spec(spec["network"])
     if net.lattice is None or net.is_infinite or net.ndim > 3:
         return ""
     reg = region_from_spec(net, spec["region"])
     reg_b = region_from_spec(net, spec["region_b"]) if spec.get("region_b") else None
-    return _img(region_figure(net, reg, region_b=reg_b, title=f"{row['family']}: {row['label']}"),
-                "region")
+    name = f"{row['family']}: {row['label']}"
+    out = _img(region_figure(net, reg, region_b=reg_b, title=name), "region")
+    if modes and reg.size <= MODE_PICTURE_LIMIT:
+        try:
+            out += _img(mode_figure(net, reg, title=f"most entangled modes, {name}"), "modes")
+        except (NotImplementedError, ValueError) as exc:  # a method without region blocks
+            out += f'<p class="note">no mode picture: {html.escape(str(exc))}</p>'
+    return out
 
 
-def write_report(store, path, *, title="", powers=(), endpoints=2):
-    """Write the report of everything in ``store`` to ``path`` (HTML); returns the path."""
+def write_report(store, path, *, title="", powers=(), endpoints=2, size="x"):
+    """Write the report of everything in ``store`` to ``path`` (HTML); returns the path.
+
+    ``size`` ('x' or 'bonds') is the size variable of the fits in d ≥ 2 (see :func:`fit_rows`).
+    """
     rows = store.rows()
     if not rows:
         raise ValueError(f"the store {str(store.path)!r} holds no results; run a scenario first "
@@ -102,10 +118,10 @@ def write_report(store, path, *, title="", powers=(), endpoints=2):
     if groups:
         parts.append("<h2>Scaling fits</h2>")
     for key, grp in groups.items():
-        sec, _ = _fit_section(key, grp, powers, endpoints)
+        sec, _ = _fit_section(key, grp, powers, endpoints, size)
         parts += sec
         largest = max(grp, key=lambda r: r["x"])
-        parts.append(_picture(largest))
+        parts.append(_picture(largest, modes=True))
         if largest.get("entanglement_energies"):
             parts.append(_img(energies_figure(largest["entanglement_energies"],
                                               title=f"{key[0]}: {largest['label']}"),

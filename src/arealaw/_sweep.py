@@ -5,9 +5,11 @@ writes every finished case to the store as it arrives, so an interrupted sweep l
 finished and a rerun skips what is stored.
 """
 
+import json
 import os
 import sys
 import time
+from collections import OrderedDict
 
 import numpy as np
 from threadpoolctl import threadpool_limits
@@ -30,6 +32,24 @@ def boundary_bonds(network, region):
     return int(np.count_nonzero(cross))
 
 
+#: Networks kept per process, so that consecutive cases on one lattice reuse the backends'
+#: per-network caches (e.g. the dense eigendecomposition).
+NETWORK_CACHE_SIZE = 2
+_networks = OrderedDict()
+
+
+def _network(spec):
+    key = json.dumps(spec, sort_keys=True)
+    if key in _networks:
+        _networks.move_to_end(key)
+        return _networks[key]
+    net = network_from_spec(spec)
+    _networks[key] = net
+    while len(_networks) > NETWORK_CACHE_SIZE:
+        _networks.popitem(last=False)
+    return net
+
+
 def compute_case(case):
     """Compute one case (with BLAS pinned to one thread); returns a JSON-able result dict.
 
@@ -42,7 +62,7 @@ def compute_case(case):
     (0.135471, 1, 1)
     """
     with threadpool_limits(limits=1):
-        network = network_from_spec(case.network)
+        network = _network(case.network)
         region = region_from_spec(network, case.region)
         region_b = region_from_spec(network, case.region_b) if case.region_b else None
         res = entropy(network, region, region_b=region_b, renyi=case.renyi, method=case.method,

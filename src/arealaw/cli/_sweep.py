@@ -133,6 +133,10 @@ def _fit_options(p, family=True):
                    help="extra correction terms R^P (e.g. 1 or -1)")
     p.add_argument("--endpoints", type=int, choices=(1, 2), default=2,
                    help="1-D only: region endpoints, c = 3a (2) or 6a (1)")
+    p.add_argument("--size", choices=("x", "bonds"), default="x",
+                   help="size variable R in d >= 2: x = the swept value (default), bonds = "
+                        "(couplings cut by the boundary)^(1/(d-1)), which follows jagged "
+                        "lattice surfaces")
 
 
 def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout=20.0):
@@ -215,7 +219,9 @@ def _fits(args, store):
         raise ValueError("no family with a swept region size to fit (e.g. ball = {from = 2, "
                          "to = 6})")
     return [(group_name(k), fit_rows(g, measure=args.measure, powers=args.power,
-                                     endpoints=args.endpoints), g) for k, g in groups.items()]
+                                     endpoints=args.endpoints,
+                                     size=args.size if g[0]["dim"] >= 2 else "x"), g)
+            for k, g in groups.items()]
 
 
 def cmd_fit(args):
@@ -258,30 +264,34 @@ def cmd_plot(args):
                 figure_png(energies_figure(largest["entanglement_energies"],
                                            title=f"{name}: {largest['label']}"), path)
                 written.append(path)
-            path = out / f"{_slug(name)}_region.png"
-            if _region_png(largest, path):
-                written.append(path)
+            written += _region_pngs(largest, out / f"{_slug(name)}_region.png",
+                                    out / f"{_slug(name)}_modes.png")
     for p in written:
         print(p)
     return 0
 
 
-def _region_png(row, path):
-    from .._plots import figure_png, region_figure
+def _region_pngs(row, region_path, modes_path):
+    from .._plots import figure_png, mode_figure, region_figure
+    from .._report import MODE_PICTURE_LIMIT
     from .._specs import network_from_spec, region_from_spec
     net = network_from_spec(row["spec"]["network"])
     if net.lattice is None or net.is_infinite:
-        return False
+        return []
     reg = region_from_spec(net, row["spec"]["region"])
-    figure_png(region_figure(net, reg, title=f"{row['family']}: {row['label']}"), path)
-    return True
+    name = f"{row['family']}: {row['label']}"
+    figure_png(region_figure(net, reg, title=name), region_path)
+    if reg.size > MODE_PICTURE_LIMIT:
+        return [region_path]
+    figure_png(mode_figure(net, reg, title=f"most entangled modes, {name}"), modes_path)
+    return [region_path, modes_path]
 
 
 def cmd_report(args):
     from .._report import write_report
     with _store(args.store) as store:
         path = write_report(store, args.out, title=args.title, powers=args.power,
-                            endpoints=args.endpoints)
+                            endpoints=args.endpoints, size=args.size)
     print(path)
     return 0
 
@@ -309,10 +319,10 @@ def cmd_demo(args):
     status = _sweep(scenario, str(store_path), args.workers, None, not args.no_progress)
     with _store(store_path) as store:
         for key, rows in fit_groups(store.rows()).items():
-            fit = fit_rows(rows)
-            print(f"{key[0]}: {fit.law}: " + ", ".join(
+            fit = fit_rows(rows, size="bonds")
+            print(f"{key[0]}: {fit.law}, R = (boundary bonds)^(1/2): " + ", ".join(
                 f"{n} = {v:.5g} ± {e:.2g}" for n, v, e in
                 zip(fit.names, fit.coefficients, fit.stderr)))
-        report = write_report(store, out / "report.html", title=scenario.title)
+        report = write_report(store, out / "report.html", title=scenario.title, size="bonds")
     print(f"report: {report}  (total {time.perf_counter() - t0:.1f} s)")
     return status
