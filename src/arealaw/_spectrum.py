@@ -88,6 +88,15 @@ def _make_spectrum(t_raw, delta, weights=None, **kw):
                               clamped=int(neg.sum()), **kw)
 
 
+def _psd_norm(a):
+    """Spectral norm of a symmetric positive semi-definite block: its largest eigenvalue.
+
+    (One partial eigvalsh is several times cheaper than the SVD behind ``norm(a, 2)``.)
+    """
+    n = a.shape[0]
+    return float(abs(scipy.linalg.eigvalsh(a, subset_by_index=[n - 1, n - 1])[0]))
+
+
 def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
     """Symplectic spectrum of a region from its blocks X_A, P_A (dense, stable symmetric form).
 
@@ -131,8 +140,8 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
         wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
         delta = 8 * np.sqrt(n) * _EPS * wnorm * np.ones(n)
     if x_error or p_error:
-        xn = np.linalg.norm(xs, 2) if n <= 4000 else np.abs(xs).sum(axis=1).max()
-        pn = np.linalg.norm(ps, 2) if n <= 4000 else np.abs(ps).sum(axis=1).max()
+        xn = _psd_norm(xs) if n <= 4000 else np.abs(xs).sum(axis=1).max()
+        pn = _psd_norm(ps) if n <= 4000 else np.abs(ps).sum(axis=1).max()
         delta = delta + xn * p_error + pn * x_error + x_error * p_error
     return _make_spectrum(lam, delta, info=dict(info or {}))
 

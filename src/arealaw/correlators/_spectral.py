@@ -332,7 +332,8 @@ def spectral_correlators(network, rows, cols=None, *, tol=1e-12):
     entry_x = plan.n_terms * (tables.err_x + 2 * _EPS * np.abs(vm).max())
     entry_p = plan.n_terms * (tables.err_p + 2 * _EPS * np.abs(vp).max())
     norm = math.sqrt(float(n_r) * float(n_c))
-    info = dict(tables.info, image_terms=plan.n_terms)
+    info = dict(tables.info, image_terms=plan.n_terms, entry_x_error=fx * entry_x,
+                entry_p_error=fp * entry_p)
     return Blocks(x, p, fx * norm * entry_x, fp * norm * entry_p, info)
 
 
