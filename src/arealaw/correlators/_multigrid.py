@@ -8,7 +8,8 @@ with the Hale–Higham–Trefethen (2008) nodes σ_j > 0, w_j > 0 (:mod:`._conto
 Only a block of each (V + σM)^{-1} is needed.  With C the core sites and B the rest, the Schur
 complement gives [(H)^{-1}]_CC = (H_CC − H_CB H_BB^{-1} H_BC)^{-1}, H = V + σM, and H_BC touches
 only the sites of B next to C: the shifted solves have one right-hand side per inner-boundary site
-of C (not per site), and only the outer-boundary rows of their solutions are kept.
+of C (not per site), and only the outer-boundary rows of their solutions are kept.  P needs no
+extra solves: K^{1/2} ≈ Σ_j w_j (I − σ_j (K + σ_j)^{-1}) uses the same core blocks.
 
 Engines for the solves with H_BB (chosen by the condition number κ and the structure of M):
 
@@ -198,13 +199,12 @@ class SparseBackend(CorrelatorBackend):
         else:
             vm = abs(network.potential) + abs(prep["m"])
             core = np.union1d(union, vm[union].indices)
-        y_cc, y_rc, outer, err, diag_info = self._schur(prep, core, rule, engine, tol,
-                                                        with_outer=prep["diag"])
+        y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol)
         if prep["diag"]:
-            x, p, x_err, p_err = self._assemble_diag(prep, union, y_cc, y_rc, outer, err, rule)
+            x, p, x_err, p_err = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
         else:
-            x, p, x_err, p_err = self._assemble_general(network, prep, union, core, y_cc, err,
-                                                        rule)
+            x, p, x_err, p_err = self._assemble_general(network, prep, union, core, y_cc, y_sig,
+                                                        err, rule)
         ri = np.searchsorted(union, rows)
         ci = np.searchsorted(union, cols)
         info = {"engine": engine, "poles": rule.n_nodes, "spectral_interval": (lo, hi),
@@ -235,8 +235,8 @@ class SparseBackend(CorrelatorBackend):
         return int(20 + 2 * math.sqrt(kappa) * math.log(2 / rtol))
 
     # -- the Schur complement on the core ------------------------------------------------------
-    def _schur(self, prep, core, rule, engine, tol, *, with_outer):
-        """Σ_j ½ w_j [(H_j)^{-1}] on core×core (and outer×core), with error bounds."""
+    def _schur(self, prep, core, rule, engine, tol):
+        """Σ_j ½ w_j Y_j and Σ_j ½ w_j σ_j Y_j, Y_j = [(V + σ_j M)^{-1}]_CC, with error bounds."""
         a = prep["a"]
         m = None if prep["diag"] else prep["m"]
         n = a.shape[0]
@@ -277,8 +277,8 @@ class SparseBackend(CorrelatorBackend):
             a_jr = m_jr = np.zeros((inner.size, 0))
             info["iterations"] = 0
         y_cc = np.zeros((c, c))
-        y_rc = np.zeros((outer.size, c)) if with_outer else None
-        e_cc = e_rc = 0.0
+        y_sig = np.zeros((c, c))
+        e_cc = e_sig = w_sum = 0.0
         for j, sigma in enumerate(shifts):
             h_jr = a_jr if m_jr is None else a_jr + sigma * m_jr
             s = a_cc + sigma * m_cc
@@ -305,13 +305,11 @@ class SparseBackend(CorrelatorBackend):
             if e_s < 0.5 * lh:
                 e_y = min(e_y, e_s / lh ** 2 / (1 - e_s / lh))
             e_cc += wj * e_y
-            if with_outer:
-                zr = z[j]
-                yrc = -zr @ yj[inner]
-                y_rc += wj * yrc
-                e_rc += wj * (e_z * (1 / lh + e_y) + _spectral_norm(zr) * e_y)
-        err = {"x_cc": e_cc, "x_rc": e_rc}
-        return y_cc, y_rc, outer, err, info
+            y_sig += (wj * sigma) * yj
+            e_sig += wj * sigma * e_y
+            w_sum += wj
+        err = {"x_cc": e_cc, "sigma": e_sig, "w_sum": w_sum}
+        return y_cc, y_sig, err, info
 
     def _block_plan(self, n, n_rhs, nnz):
         """(block size, workers): equal blocks, a multiple of the workers, that fit in memory."""
@@ -348,37 +346,33 @@ class SparseBackend(CorrelatorBackend):
         return amg_shifted_cg(a_bb, m_bb, shifts, rhs, keep, rtol=rtol, maxiter=maxiter)
 
     # -- assembly of X and P -------------------------------------------------------------------
-    def _assemble_diag(self, prep, union, y_cc, y_rc, outer, err, rule):
-        a, d = prep["a"], prep["d"]
-        # P' = V' X' on the core: X' known on the core and the outer rows, which is all V' reaches.
-        both = np.concatenate([union, outer])
-        a_cb = a[union][:, both].toarray()
-        xs = np.vstack([y_cc, y_rc])
-        p_s = a_cb @ xs
+    def _assemble_diag(self, prep, union, y_cc, y_sig, err, rule):
+        # K^{1/2} ≈ Σ w_j K (K + σ_j)^{-1} = Σ w_j (I − σ_j (K + σ_j)^{-1}): P' = ½ K^{1/2} on the
+        # core needs only the core blocks Y_j (no detour through V' X', whose bound is weaker).
+        d = prep["d"]
+        c = union.size
+        p_s = err["w_sum"] * np.eye(c) - y_sig
         p_s = 0.5 * (p_s + p_s.T)
         sq = np.sqrt(d[union])
         x = y_cc / sq[:, None] / sq[None, :]
         p = p_s * sq[:, None] * sq[None, :]
         x_err = (err["x_cc"] + 0.5 * rule.abs_error) / float(d[union].min())
-        k = union.size
-        e_solver = (_norm2_bound(a_cb[:, :k]) * err["x_cc"]
-                    + _norm2_bound(a_cb[:, k:]) * err["x_rc"])
-        p_err = (e_solver + 0.5 * rule.x_abs_error
-                 + 8 * both.size * _EPS * float(np.abs(p_s).max())) * float(d[union].max())
+        p_err = (err["sigma"] + 0.5 * rule.x_abs_error
+                 + 8 * c * _EPS * err["w_sum"]) * float(d[union].max())
         return x, p, x_err, p_err
 
-    def _assemble_general(self, network, prep, union, core, y_cc, err, rule):
-        v, m = network.potential, prep["m"]
+    def _assemble_general(self, network, prep, union, core, y_cc, y_sig, err, rule):
+        # P = ½ M^{1/2} K^{1/2} M^{1/2} ≈ ½ Σ w_j (M − σ_j M (V + σ_j M)^{-1} M).
+        m = prep["m"]
         ui = np.searchsorted(core, union)
-        v_uc = v[union][:, core].toarray()
-        m_cu = m[core][:, union].toarray()
+        m_uc = m[union][:, core].toarray()
         x = y_cc[np.ix_(ui, ui)]
-        p = v_uc @ y_cc @ m_cu
+        p = err["w_sum"] * m[union][:, union].toarray() - m_uc @ y_sig @ m_uc.T
         p = 0.5 * (p + p.T)
+        m_norm = _norm2_bound(m_uc)
         x_err = err["x_cc"] + 0.5 * rule.abs_error / prep["m_lo"]
-        p_err = (_norm2_bound(v_uc) * err["x_cc"] * _norm2_bound(m_cu)
-                 + 0.5 * rule.x_abs_error * prep["m_hi"] + 8 * core.size * _EPS
-                 * float(np.abs(p).max()))
+        p_err = (m_norm ** 2 * err["sigma"] + 0.5 * rule.x_abs_error * prep["m_hi"]
+                 + 8 * core.size * _EPS * err["w_sum"] * max(1.0, m_norm ** 2))
         return x, p, x_err, p_err
 
 
