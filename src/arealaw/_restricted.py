@@ -102,61 +102,75 @@ def _project_out(z, basis, pbasis, pz=None):
     return c_tot
 
 
-def _normalize_block(z, pz, floor):
-    """z = q r with qᵀPq = I on the kept directions (P-Gram eigenvalue > floor), zeros elsewhere."""
-    g = z.T @ pz
-    lam, u = scipy.linalg.eigh(0.5 * (g + g.T))
-    keep = lam > max(floor, 1e-300)
-    inv = np.where(keep, 1.0 / np.sqrt(np.where(keep, lam, 1.0)), 0.0)
-    r = (u * np.sqrt(np.where(keep, lam, 0.0))).T
-    return (z @ u) * inv, (pz @ u) * inv, r, keep
+def _normalize_block(z, floor, p_op, pa):
+    """z = q r with qᵀPq = I on the kept directions, zero columns / rows for the dropped ones.
 
-
-def _lam_ratio(r, rows):
-    """Spread of the kept singular values of the block (amplification of rounding by scaling)."""
-    sv = np.linalg.norm(r[rows], axis=1)
-    return float(sv.max() / sv.min())
+    The rank decision and the scaling come from a Euclidean QR + SVD (backward stable, so
+    directions far smaller than the largest are resolved); the P-Gram matrix is then only
+    asked to normalise orthonormal columns, which is well conditioned (by cond(P_A)).
+    Returns (q, pq, r, keep, spread) with ``spread`` the ratio of kept singular values.
+    """
+    n, b = z.shape
+    uq, rr = np.linalg.qr(z)
+    uu, ss, vt = np.linalg.svd(rr)
+    kk = int(np.count_nonzero(ss > max(floor, 1e-300)))
+    q = np.zeros((n, b))
+    pq = np.zeros((n, b))
+    r = np.zeros((b, b))
+    if kk:
+        w = uq @ uu[:, :kk]
+        pw = _matmat(p_op, pa, w)
+        g = w.T @ pw
+        lam, ug = scipy.linalg.eigh(0.5 * (g + g.T))
+        inv = 1.0 / np.sqrt(lam)
+        q[:, :kk] = (w @ ug) * inv
+        pq[:, :kk] = (pw @ ug) * inv
+        r[:kk] = (ug * np.sqrt(lam)).T @ (ss[:kk, None] * vt[:kk])
+    spread = float(ss[0] / ss[kk - 1]) if kk else math.inf
+    return q, pq, r, np.arange(b) < kk, spread
 
 
 def _orthonormalize_block(z, basis, pbasis, scale, rng, p_op, pa):
     """P-orthonormalise block z against ``basis`` and itself: z = basis·h + q·r.
 
-    Gram–Schmidt twice against the basis, then P z is formed (one product, after the
-    projection, so that normalising does not amplify an updated P z) and the block is
-    normalised by the eigenvalues of its P-Gram matrix; a second round restores the
-    orthogonality lost when z is nearly contained in the basis (tiny Lanczos couplings, usual
-    for fast-decaying spectra).  Directions below rounding are dropped and replaced by random
-    ones; a final QR makes r triangular, so T stays banded.  Returns (q, pq, h, r, dropped).
+    Gram–Schmidt twice against the basis, then a stable normalisation inside the block
+    (:func:`_normalize_block`, one product with P).  When the block spans very different
+    scales (tiny Lanczos couplings, usual for fast-decaying spectra) a second round restores
+    the orthogonality to the basis.  Directions below rounding are dropped and replaced by
+    random ones (the caller then keeps T's columns whole); a final QR makes r triangular, so
+    T stays banded.  Returns (q, pq, h, r, dropped).
     """
+    b = z.shape[1]
+    znorm = float(np.linalg.norm(z, axis=0).max(initial=0.0))
     h = _project_out(z, basis, pbasis)
-    pz = _matmat(p_op, pa, z)
-    q, pq, r1, keep = _normalize_block(z, pz, (1e3 * _EPS * scale) ** 2)
-    dropped = int(keep.size - keep.sum())
+    q, pq, r1, keep, spread = _normalize_block(z, 1e3 * _EPS * max(scale, znorm), p_op, pa)
+    dropped = int(b - keep.sum())
     if dropped:
         cols = np.flatnonzero(~keep)
         fill = rng.standard_normal((q.shape[0], dropped))
-        n0 = np.linalg.norm(fill, axis=0)
         _project_out(fill, np.hstack([basis, q[:, keep]]), np.hstack([pbasis, pq[:, keep]]))
         # no room left (the basis spans everything): zero columns add only t = 0 Ritz values
-        ok = np.linalg.norm(fill, axis=0) > 1e-6 * n0
-        fill[:, ~ok] = 0.0
-        pfill = _matmat(p_op, pa, fill)
-        nrm = np.sqrt(np.maximum(np.einsum("ij,ij->j", fill, pfill), 0.0))
-        safe = np.where(ok, nrm, 1.0)
-        q[:, cols] = fill / safe
-        pq[:, cols] = pfill / safe
-    ok1 = np.flatnonzero(keep)
-    if not dropped and ok1.size and _lam_ratio(r1, ok1) <= 1e3:
+        fq, fpq, _, _, _ = _normalize_block(fill, 1e-6 * math.sqrt(q.shape[0]), p_op, pa)
+        q[:, cols] = fq
+        pq[:, cols] = fpq
+    elif spread <= 1e3:
         # a well-conditioned block: Gram–Schmidt twice was enough
         o, r = scipy.linalg.qr(r1)
         return q @ o, pq @ o, h, r, dropped
-    # normalising mixed large and tiny columns amplified rounding: project again and re-form P q
     c2 = _project_out(q, basis, pbasis)
-    pq = _matmat(p_op, pa, q)
-    q, pq, r2, _ = _normalize_block(q, pq, 0.0)
+    # columns have P-norm ≈ 1 here: a singular value far below 1 is dependence, not signal
+    q, pq, r2, keep2, _ = _normalize_block(q, 1e-8, p_op, pa)
     h += c2 @ r1
-    o, r = scipy.linalg.qr(r2 @ r1)
-    return q @ o, pq @ o, h, r, dropped
+    # triangularise on the kept columns only (mixing in a zero column would denormalise)
+    rows = np.flatnonzero(keep2)
+    o, r_kept = scipy.linalg.qr((r2 @ r1)[rows])
+    q_out = np.zeros_like(q)
+    pq_out = np.zeros_like(pq)
+    q_out[:, :rows.size] = q[:, rows] @ o
+    pq_out[:, :rows.size] = pq[:, rows] @ o
+    r = np.zeros_like(r1)
+    r[:rows.size] = r_kept
+    return q_out, pq_out, h, r, dropped
 
 
 def _band_ritz(diag_blocks, sub_blocks, b):
