@@ -212,3 +212,15 @@ def test_shifted_solvers_match_direct_solves():
         assert_allclose(z2[j], exact, atol=1e-10)
     assert np.all(r1 <= 1e-12 * np.linalg.norm(f, axis=0) * 1.0001)
     assert np.all(r2 <= 1.5e-12 * np.linalg.norm(f, axis=0))
+
+
+def test_uniform_lattice_agrees_with_spectral_backend():
+    # Independent check: the exact spectral backend of uniform boxes (dense is too slow here).
+    net = hypercubic((16, 16, 16), mass=0.1, boundary=("dirichlet", "periodic", "dirichlet"))
+    rows = ball(net, 3.0).indices
+    bs = get_backend("spectral").blocks(net, rows, tol=1e-12)
+    bp = SparseBackend().blocks(net, rows, tol=1e-10)
+    dx = np.linalg.norm(bs.x - bp.x, 2)
+    dp = np.linalg.norm(bs.p - bp.p, 2)
+    assert dx <= 1e-10 and dp <= 1e-10
+    assert dx <= bs.x_error + bp.x_error and dp <= bs.p_error + bp.p_error

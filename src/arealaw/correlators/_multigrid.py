@@ -197,8 +197,8 @@ class SparseBackend(CorrelatorBackend):
         if prep["diag"]:
             core = union
         else:
-            vm = abs(network.potential) + abs(prep["m"])
-            core = np.union1d(union, vm[union].indices)
+            # P needs (V + σM)^{-1} on the M-neighbourhood of the sites (see _assemble_general).
+            core = np.union1d(union, prep["m"][union].indices)
         y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol)
         if prep["diag"]:
             x, p, x_err, p_err = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
