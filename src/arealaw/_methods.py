@@ -24,8 +24,8 @@ DENSE_SPECTRUM_LIMIT = 15000
 RESTRICTED_MIN_SITES = 8000
 #: Seconds per flop of the dense eigenproblem and of the block-Lanczos restricted solver with
 #: dense region blocks (one BLAS thread, measured by benchmarks/bench_restricted.py).
-_DENSE_SECONDS_PER_FLOP = 2.1e-10
-_RESTRICTED_SECONDS_PER_FLOP = 1.0e-10
+_DENSE_SECONDS_PER_FLOP = 2.0e-10
+_RESTRICTED_SECONDS_PER_FLOP = 1.6e-10
 
 
 def _boundary_sites(network, indices):
@@ -42,12 +42,12 @@ def _boundary_sites(network, indices):
 
 
 def restricted_modes_estimate(n, boundary, tol):
-    """Lanczos vectors the restricted solver needs: about (0.9 + 0.15·log10(1/tol))·boundary.
+    """Lanczos vectors the restricted solver needs: about (1 + 0.125·log10(1/tol))·boundary.
 
-    Measured on 3-D balls (benchmarks/bench_restricted.py): 1.5 × boundary sites at tol 1e-6,
-    2.0 × at 1e-10 with threshold tol; the default threshold tol/100 adds about 0.3.
+    Measured on 3-D balls (benchmarks/bench_restricted.py): 1.5 × the boundary sites for
+    threshold 1e-6, 2.0 × for 1e-10, 2.2 × for 1e-12 (the default threshold is tol/100).
     """
-    per_site = 0.9 + 0.15 * max(0.0, -np.log10(tol))
+    per_site = 1.0 + 0.125 * max(0.0, -np.log10(tol))
     return float(min(n, max(64.0, per_site * boundary)))
 
 
@@ -56,8 +56,8 @@ def _dense_seconds(n):
 
 
 def _restricted_seconds(n, m):
-    # two products with n×n blocks per Lanczos vector plus full reorthogonalisation
-    return _RESTRICTED_SECONDS_PER_FLOP * (4.0 * float(n) ** 2 * m + 8.0 * float(n) * m * m)
+    # two products with n×n blocks per Lanczos vector plus full reorthogonalisation (CGS2)
+    return _RESTRICTED_SECONDS_PER_FLOP * (4.0 * float(n) ** 2 * m + 4.0 * float(n) * m * m)
 
 
 def prefer_restricted(network, indices, tol):
