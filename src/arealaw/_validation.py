@@ -114,6 +114,16 @@ def _ball_fit(n_radial, ns):
     return float(coef[0])
 
 
+def _sphere_log_coefficient(n_radial, ns):
+    """c from S = κR² + c ln R + d + e/R² at fixed N (finite-N corrections ∝ R²/N² go into κ)."""
+    al = _arealaw()
+    r = np.array([n + 0.5 for n in ns])
+    s = np.array([al.radial_entropy(n_radial, n, rtol=1e-9).entropy for n in ns])
+    basis = np.stack([r**2, np.log(r), np.ones_like(r), r**-2.0], 1)
+    coef, *_ = np.linalg.lstsq(basis, s, rcond=None)
+    return float(coef[1])
+
+
 def _reduction_vs_dense(shape, at, mass):
     al = _arealaw()
     net = al.hypercubic(shape, mass=mass, boundary=("dirichlet",) + ("periodic",) * (len(shape) - 1))
@@ -206,6 +216,11 @@ def _table():
                   lambda: _ball_fit(60, range(10, 25, 2)), 0.295, 0.005,
                   "Lohmayer, Neuberger, Schwimmer & Theisen 2010, arXiv:0911.4283 (value from "
                   "memory)", quick=False),
+        Reference("sphere: log coefficient c of S = kR^2 + c lnR + d + e/R^2 (N=400, n=10..30)",
+                  lambda: _sphere_log_coefficient(400, range(10, 31, 5)), -1 / 90, 0.02,
+                  "Solodukhin 2008, PLB 665 305; Lohmayer, Neuberger, Schwimmer & Theisen 2010, "
+                  "arXiv:0911.4283; Casini & Huerta 2010, arXiv:1007.1813", relative=True,
+                  quick=False),
         Reference("transverse reduction = dense, 8x6x6 periodic transverse (ratio)",
                   lambda: (lambda a, b: a / b)(*_reduction_vs_dense((8, 6, 6), 4, 0.2)), 1.0,
                   1e-8, "Casini & Huerta 2009 review, J. Phys. A 42 504007 (exact on the lattice)",
