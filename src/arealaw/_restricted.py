@@ -203,8 +203,11 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
     x, p : LinearOperator or ndarray, shape (n, n)
         The region blocks X_A, P_A (symmetric positive definite); only products are used.
     tol : float
-        Requested accuracy of the entropy; the iteration stops once the certified tail bound is
-        below it or no longer improves (rounding floor).
+        Requested accuracy of the entropy.  The iteration stops once the certified bound is
+        below it, or once the trace deficit is negligible beside the floor that rounding and
+        the block errors already set (more vectors could not lower the bound), or when the
+        deficit stalls with every mode above the threshold accounted for.  A deficit that
+        stalls while it still shows missed modes restarts with a doubled block.
     threshold : float, optional
         Modes with t above it are kept (default ``tol / 100``: the omitted tail's bound,
         about (its Σt)·(1 + ln((n − k)/Σt)), is then near ``tol`` unless rounding dominates).
@@ -224,7 +227,22 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
     -------
     SymplecticSpectrum
         Kept modes with ``tail = Tail(n − k, T, T)``; ``info`` has the Krylov dimension, the
-        trace, the threshold and the tail bound.
+        trace, the threshold, the tail bound and the attempts.  Where the Krylov space would
+        span the whole region the dense form is solved instead (``info['restricted']`` False,
+        no tail).
+
+    Raises
+    ------
+    ConvergenceError
+        ``maxiter`` blocks were not enough, or missed modes persisted through restarts; the
+        message gives the bound reached.
+
+    Notes
+    -----
+    The reported bound adds, per kept mode, the Ritz rounding model 16·√m·ε·‖C‖ (plus any
+    discarded off-band Lanczos coefficients) and the block error ‖X‖δP + ‖P‖δX + δXδP; the
+    tail total adds the trace rounding, k times the Ritz rounding and (n − k) block errors.
+    The Rényi bound for orders below 1 is much weaker (s_n has an infinite slope at t = 0).
 
     Examples
     --------
