@@ -68,7 +68,10 @@ def _fit_section(key, rows, powers, endpoints, size):
     against = ("R = (boundary bonds)^(1/(d−1))" if fit.size == "bonds"
                else "R = the swept size")
     parts.append(f"<p>{html.escape(fit.law)} with {against}, {fit.sizes.size} points, "
-                 f"χ²/dof = {_num(fit.chi2_red, 4)} (weights: error bounds)</p>")
+                 f"χ²/dof = {_num(fit.chi2_red, 4)} (weights: error bounds"
+                 + (f", plus a model scatter σ_m = {fit.model_sigma:.3g} in quadrature, as the "
+                    "law's truncation exceeds the bounds" if fit.model_sigma else "")
+                 + ")</p>")
     parts.append(_table(["coefficient", "value", "std. error", "largest drift",
                          "dropping smallest sizes"], body))
     if fit.central_charge is not None:
