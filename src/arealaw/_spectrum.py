@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import scipy.linalg
+import scipy.linalg.blas
 
 __all__ = ["SymplecticSpectrum", "Tail", "combine_spectra", "symplectic_spectrum"]
 
@@ -127,7 +128,9 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
     except np.linalg.LinAlgError:
         raise ValueError("X_A is not positive definite: these blocks are not the correlators of "
                          "a physical Gaussian state (check V and M)") from None
-    w = chol.T @ ps @ chol
+    # W = Lᵀ P_A L by two triangular products (half the flops of two general ones)
+    w = scipy.linalg.blas.dtrmm(1.0, chol, ps, side=1, lower=1)
+    w = scipy.linalg.blas.dtrmm(1.0, chol, w, side=0, lower=1, trans_a=1)
     w = 0.5 * (w + w.T)
     w[np.diag_indices(n)] -= 0.25
     if n <= RESIDUAL_BOUND_LIMIT:
