@@ -82,24 +82,42 @@ def _fit_section(key, rows, powers, endpoints, size):
 
 
 #: Largest region whose most entangled modes the report draws (a dense eigenproblem).
-MODE_PICTURE_LIMIT = 3000
+MODE_PICTURE_LIMIT = 1500
 
 
-def _picture(row, modes=False):
+def _rebuild(row):
     spec = row["spec"]
     net = network_from_spec(spec["network"])
     if net.lattice is None or net.is_infinite or net.ndim > 3:
-        return ""
+        return None, None, None
     reg = region_from_spec(net, spec["region"])
     reg_b = region_from_spec(net, spec["region_b"]) if spec.get("region_b") else None
+    return net, reg, reg_b
+
+
+def _picture(row):
+    net, reg, reg_b = _rebuild(row)
+    if net is None:
+        return ""
     name = f"{row['family']}: {row['label']}"
-    out = _img(region_figure(net, reg, region_b=reg_b, title=name), "region")
-    if modes and reg.size <= MODE_PICTURE_LIMIT:
-        try:
-            out += _img(mode_figure(net, reg, title=f"most entangled modes, {name}"), "modes")
-        except (NotImplementedError, ValueError) as exc:  # a method without region blocks
-            out += f'<p class="note">no mode picture: {html.escape(str(exc))}</p>'
-    return out
+    return _img(region_figure(net, reg, region_b=reg_b, title=name), "region")
+
+
+def mode_row(rows):
+    """The largest swept case small enough for a mode picture (None if there is none)."""
+    small = [r for r in rows if r["region_sites"] <= MODE_PICTURE_LIMIT]
+    return max(small, key=lambda r: r["x"]) if small else None
+
+
+def _modes(row):
+    net, reg, _ = _rebuild(row) if row is not None else (None, None, None)
+    if net is None:
+        return ""
+    try:
+        return _img(mode_figure(net, reg, title=f"most entangled modes, {row['family']}: "
+                                               f"{row['label']}"), "modes")
+    except (NotImplementedError, ValueError) as exc:  # a method without region blocks
+        return f'<p class="note">no mode picture: {html.escape(str(exc))}</p>'
 
 
 def write_report(store, path, *, title="", powers=(), endpoints=2, size="x"):
@@ -124,7 +142,8 @@ def write_report(store, path, *, title="", powers=(), endpoints=2, size="x"):
         sec, _ = _fit_section(key, grp, powers, endpoints, size)
         parts += sec
         largest = max(grp, key=lambda r: r["x"])
-        parts.append(_picture(largest, modes=True))
+        parts.append(_picture(largest))
+        parts.append(_modes(mode_row(grp)))
         if largest.get("entanglement_energies"):
             parts.append(_img(energies_figure(largest["entanglement_energies"],
                                               title=f"{key[0]}: {largest['label']}"),

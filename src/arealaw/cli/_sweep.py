@@ -264,27 +264,31 @@ def cmd_plot(args):
                 figure_png(energies_figure(largest["entanglement_energies"],
                                            title=f"{name}: {largest['label']}"), path)
                 written.append(path)
-            written += _region_pngs(largest, out / f"{_slug(name)}_region.png",
+            written += _region_pngs(rows, out / f"{_slug(name)}_region.png",
                                     out / f"{_slug(name)}_modes.png")
     for p in written:
         print(p)
     return 0
 
 
-def _region_pngs(row, region_path, modes_path):
+def _region_pngs(rows, region_path, modes_path):
     from .._plots import figure_png, mode_figure, region_figure
-    from .._report import MODE_PICTURE_LIMIT
+    from .._report import mode_row
     from .._specs import network_from_spec, region_from_spec
-    net = network_from_spec(row["spec"]["network"])
-    if net.lattice is None or net.is_infinite:
-        return []
-    reg = region_from_spec(net, row["spec"]["region"])
-    name = f"{row['family']}: {row['label']}"
-    figure_png(region_figure(net, reg, title=name), region_path)
-    if reg.size > MODE_PICTURE_LIMIT:
-        return [region_path]
-    figure_png(mode_figure(net, reg, title=f"most entangled modes, {name}"), modes_path)
-    return [region_path, modes_path]
+    written = []
+    for row, path in ((max(rows, key=lambda r: r["x"]), region_path), (mode_row(rows), modes_path)):
+        if row is None:
+            continue
+        net = network_from_spec(row["spec"]["network"])
+        if net.lattice is None or net.is_infinite:
+            continue
+        reg = region_from_spec(net, row["spec"]["region"])
+        name = f"{row['family']}: {row['label']}"
+        fig = (region_figure(net, reg, title=name) if path is region_path
+               else mode_figure(net, reg, title=f"most entangled modes, {name}"))
+        figure_png(fig, path)
+        written.append(path)
+    return written
 
 
 def cmd_report(args):
