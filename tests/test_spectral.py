@@ -221,3 +221,10 @@ def test_reflection_sectors_are_orthonormal_and_commute_with_x():
         off[start:start + m, start:start + m] = 0
         start += m
     assert np.abs(off).max() < 1e-14
+
+
+def test_tiny_mass_on_a_torus_is_a_convergence_error():
+    # e^{-s m²} stays ~1 over the whole quadrature range: refuse rather than return a number
+    net = al.hypercubic(5, mass=1e-100, boundary="periodic")
+    with pytest.raises(al.ConvergenceError, match="too short"):
+        spectral_correlators(net, [0, 1])

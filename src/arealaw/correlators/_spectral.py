@@ -230,6 +230,11 @@ class _Tables:
         for ax in self.axes:
             env[live] *= ax.bound(s[live])
         keep = env > _TRIM
+        if keep[0] or keep[-1]:  # the integrand is not negligible at |t| = T: range too short
+            raise ConvergenceError(
+                f"the spectral quadrature range s in [{s[0]:.3g}, {s[-1]:.3g}] is too short for "
+                f"this lattice (integrand envelope {max(env[0], env[-1]):.3g} at its ends); the "
+                "mass is too small — increase it or use Dirichlet walls")
         trimmed = float(env[~keep].sum()) * max(1.0, self.p_scale)
         s, w = s[keep], base[keep]
         shape = self.plan.table_shape
