@@ -51,3 +51,12 @@ def test_every_reference_names_a_source():
     for ref in references():
         assert len(ref.source) > 10 and ref.tolerance > 0
     assert {r.case for r in references(quick=True)} < {r.case for r in references()}
+
+
+@pytest.mark.slow
+def test_full_table_passes():
+    # Every published reference value (shared/REFERENCES.md; sources in each row), full mode.
+    rows = run_validation(references(quick=False))
+    failed = [r.to_dict() for r in rows if not r.passed]
+    assert not failed, failed
+    assert len(rows) > len(references(quick=True))
