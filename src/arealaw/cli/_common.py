@@ -7,7 +7,8 @@ import sys
 
 from .._errors import ConvergenceError, InsufficientMemoryError
 
-__all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "print_json"]
+__all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "positive_int",
+           "print_json"]
 
 #: Exceptions that mean "the user asked for something impossible or wrong": one line, exit 2.
 USER_ERRORS = (ValueError, OSError, InsufficientMemoryError,
@@ -32,17 +33,25 @@ def fail(prog, exc):
     return 2
 
 
+def positive_int(text):
+    """A whole number >= 1."""
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
+    return n
+
+
 def parse_extent(text):
     """An axis length: positive integer or 'inf'."""
     if text.strip().lower() in ("inf", "infinite", "infinity"):
         return math.inf
     try:
-        n = int(text)
-    except ValueError:
+        return positive_int(text)
+    except argparse.ArgumentTypeError:
         raise argparse.ArgumentTypeError(f"{text!r} is not a positive integer or 'inf'") from None
-    if n < 1:
-        raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
-    return n
 
 
 def parse_order(text):

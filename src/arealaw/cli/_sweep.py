@@ -7,7 +7,7 @@ import time
 from importlib.resources import files
 from pathlib import Path
 
-from ._common import HelpFormatter, print_json
+from ._common import HelpFormatter, positive_int, print_json
 
 __all__ = ["register"]
 
@@ -42,17 +42,6 @@ def _store(path, *, must_exist=True):
         raise ValueError(f"store {str(path)!r} does not exist; run a scenario first "
                          "(arealaw run SCENARIO.toml --store PATH)")
     return ResultStore(path)
-
-
-def _positive_int(text):
-    import argparse
-    try:
-        n = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
-    if n < 1:
-        raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
-    return n
 
 
 def register(sub):
@@ -104,7 +93,7 @@ def register(sub):
                    help="output folder (default: arealaw-demo)")
     p.add_argument("--save-scenario", metavar="FILE",
                    help="write the demo scenario to FILE and stop (edit it, then arealaw run)")
-    p.add_argument("--workers", type=_positive_int, default=min(2, os.cpu_count() or 1),
+    p.add_argument("--workers", type=positive_int, default=min(2, os.cpu_count() or 1),
                    metavar="N", help="local worker processes (default: up to 2)")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
     p.set_defaults(func=cmd_demo)
@@ -114,7 +103,7 @@ def _run_options(p):
     p.add_argument("--store", metavar="PATH",
                    help="SQLite result store (default: <out>/results.sqlite, out from the "
                         "scenario)")
-    p.add_argument("--workers", type=_positive_int, default=1, metavar="N",
+    p.add_argument("--workers", type=positive_int, default=1, metavar="N",
                    help="local worker processes (default 1)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler, e.g. tcp://head-node:8786")
