@@ -4,7 +4,7 @@ import os
 
 import numpy as np
 import pytest
-from numpy.testing import assert_allclose, assert_array_equal
+from numpy.testing import assert_allclose
 
 from arealaw import box, entropy, hypercubic
 from arealaw._scenario import Case, parse_scenario

@@ -12,7 +12,6 @@ import math
 
 import numpy as np
 
-from ._spectrum import SymplecticSpectrum
 
 __all__ = [
     "entanglement_energies", "entropy_error_bound", "mode_entropy", "mutual_information",

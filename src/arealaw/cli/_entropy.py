@@ -1,6 +1,5 @@
 """``arealaw entropy``: one case, a readable summary or one JSON object."""
 
-import argparse
 import math
 
 from .._entropy import DEFAULT_TOL, entropy, logarithmic_negativity

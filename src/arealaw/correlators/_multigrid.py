@@ -32,7 +32,7 @@ import scipy.sparse as sp
 from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
-from .._errors import ConvergenceError, UnsupportedMethodError
+from .._errors import UnsupportedMethodError
 from .._memory import available_bytes, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._contour import inverse_sqrt_rule
