@@ -12,6 +12,7 @@ Examples
 True
 """
 
+from . import _builtin_methods  # noqa: F401  (registers dense, spectral, sparse, ...)
 from ._entropy import EntropyResult, entropy, logarithmic_negativity
 from ._errors import ConvergenceError, InsufficientMemoryError, UnsupportedMethodError
 from ._fits import FitResult, fit_rows, fit_scaling

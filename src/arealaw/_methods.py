@@ -206,17 +206,3 @@ def _best(network, regions, tol):
         return None
     _, _, m, a = min(scored, key=lambda s: (s[0], s[1]))
     return m, a
-
-
-register_method(BlockMethod("dense"))
-
-from .reductions import RadialMethod, TransverseMethod  # noqa: E402  (they build on Method)
-
-register_method(RadialMethod())
-register_method(TransverseMethod())
-
-register_method(BlockMethod("sparse"))
-
-from ._reflections import ReflectionBlockMethod  # noqa: E402  (builds on BlockMethod)
-
-register_method(ReflectionBlockMethod("spectral"))

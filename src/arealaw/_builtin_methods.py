@@ -1,0 +1,17 @@
+"""Registers the built-in methods, in the order ``method='auto'`` breaks ties.
+
+Kept apart from ``_methods.py`` so that the methods built on its protocol (reductions, parity
+sectors) import it, and nothing imports them back.
+"""
+
+from ._methods import BlockMethod, register_method
+from ._reflections import ReflectionBlockMethod
+from .reductions import RadialMethod, TransverseMethod
+
+__all__ = []
+
+register_method(BlockMethod("dense"))
+register_method(RadialMethod())
+register_method(TransverseMethod())
+register_method(BlockMethod("sparse"))
+register_method(ReflectionBlockMethod("spectral"))
