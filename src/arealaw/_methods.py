@@ -11,6 +11,7 @@ import numpy as np
 
 from ._errors import UnsupportedMethodError
 from ._memory import available_bytes, format_bytes, require_memory
+from ._regions import cut_couplings
 from ._restricted import restricted_spectrum
 from ._spectrum import symplectic_spectrum
 from .correlators import Assessment, get_backend
@@ -30,14 +31,11 @@ _RESTRICTED_SECONDS_PER_FLOP = 1.6e-10
 
 def _boundary_sites(network, indices):
     """Sites of a region coupled to its complement (from V; a d-cube estimate if V is implicit)."""
-    n = indices.size
-    pot = getattr(network, "potential", None)
-    if pot is None:
+    cut = cut_couplings(network, indices)
+    if cut is None:
+        n = indices.size
         d = max(1, getattr(network, "ndim", 3) or 3)
         return min(n, 2 * d * n ** ((d - 1) / d))
-    mask = np.zeros(pot.shape[0], dtype=bool)
-    mask[indices] = True
-    cut = pot.tocsr()[indices][:, ~mask]
     return int(np.count_nonzero(np.diff(cut.indptr)))
 
 
@@ -60,19 +58,20 @@ def _restricted_seconds(n, m):
     return _RESTRICTED_SECONDS_PER_FLOP * (4.0 * float(n) ** 2 * m + 4.0 * float(n) * m * m)
 
 
-def prefer_restricted(network, indices, tol):
-    """True beyond the dense limit, or from RESTRICTED_MIN_SITES where it is estimated 2× cheaper.
+def restricted_plan(network, indices, tol):
+    """Lanczos vectors the restricted solver would use, or None where the dense solver is chosen.
 
-    Below RESTRICTED_MIN_SITES the dense solver stays: it is exact to rounding, while the
-    restricted bound carries the concavity tail (≈ 1e-7 … 1e-6 at tol = 1e-10).
+    Restricted beyond DENSE_SPECTRUM_LIMIT, or from RESTRICTED_MIN_SITES where it is estimated 2×
+    cheaper.  Below RESTRICTED_MIN_SITES the dense solver stays: it is exact to rounding, while
+    the restricted bound carries the concavity tail (≈ 1e-7 … 1e-6 at tol = 1e-10).
     """
     n = indices.size
-    if n > DENSE_SPECTRUM_LIMIT:
-        return True
-    if n < RESTRICTED_MIN_SITES:
-        return False
+    if n <= DENSE_SPECTRUM_LIMIT and n < RESTRICTED_MIN_SITES:
+        return None
     m = restricted_modes_estimate(n, _boundary_sites(network, indices), tol)
-    return _restricted_seconds(n, m) < 0.5 * _dense_seconds(n)
+    if n > DENSE_SPECTRUM_LIMIT or _restricted_seconds(n, m) < 0.5 * _dense_seconds(n):
+        return m
+    return None
 
 
 def restricted_block_spectrum(backend, network, rows, tol):
@@ -126,8 +125,8 @@ class BlockMethod(Method):
                 return Assessment(False, f"a dense eigenproblem of {n_max} sites needs "
                                          f"{format_bytes(need)}", need)
         big = max(regions, key=lambda r: r.size)
-        if self.restricted_solver is not None and prefer_restricted(network, big.indices, tol):
-            m = restricted_modes_estimate(n_max, _boundary_sites(network, big.indices), tol)
+        m = None if self.restricted_solver is None else restricted_plan(network, big.indices, tol)
+        if m is not None:
             cost = a.seconds + len(regions) * _restricted_seconds(n_max, m)
             return Assessment(True, a.reason + "; restricted Lanczos spectrum",
                               max(a.bytes, 16.0 * n_max * (n_max + m)), cost)
@@ -136,7 +135,8 @@ class BlockMethod(Method):
 
     def spectrum(self, network, region, *, tol):
         n = region.size
-        if self.restricted_solver is not None and prefer_restricted(network, region.indices, tol):
+        if (self.restricted_solver is not None
+                and restricted_plan(network, region.indices, tol) is not None):
             return self.restricted_solver(self.backend, network, region.indices, tol)
         require_memory(_dense_spectrum_bytes(n), f"a dense symplectic eigenproblem of {n} sites",
                        "use a smaller region or a method with a restricted solver")

@@ -6,8 +6,8 @@ from dataclasses import dataclass
 import numpy as np
 
 __all__ = [
-    "Region", "ball", "box", "complement", "difference", "from_mask", "from_sites",
-    "half_space", "intersection", "slab", "union",
+    "Region", "ball", "box", "complement", "cut_couplings", "difference", "from_mask",
+    "from_sites", "half_space", "intersection", "slab", "union",
 ]
 
 
@@ -242,3 +242,16 @@ def complement(network, region):
                          "use the region itself (S(A) = S(complement) for a pure state)")
     return _make(network, np.setdiff1d(np.arange(network.n_sites), region.indices),
                  f"complement of {region.description}")
+
+
+def cut_couplings(network, indices):
+    """The couplings V[A, not A] between a region's sites and the rest (csr), or None without V.
+
+    Its rows with entries are the region's boundary sites; its entries are the cut bonds.
+    """
+    v = network.potential
+    if v is None:
+        return None
+    outside = np.ones(v.shape[0], dtype=bool)
+    outside[np.asarray(indices)] = False
+    return v.tocsr()[np.asarray(indices)][:, outside]

@@ -15,6 +15,7 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from ._entropy import entropy
+from ._regions import cut_couplings
 from ._specs import network_from_spec, region_from_spec
 
 __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]
@@ -22,14 +23,8 @@ __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]
 
 def boundary_bonds(network, region):
     """Number of couplings (off-diagonal entries of V, counted once) between A and the rest."""
-    v = network.potential
-    if v is None:
-        return None
-    inside = np.zeros(network.n_sites, dtype=bool)
-    inside[region.indices] = True
-    coo = v.tocoo()
-    cross = inside[coo.row] & ~inside[coo.col] & (coo.data != 0)
-    return int(np.count_nonzero(cross))
+    cut = cut_couplings(network, region.indices)
+    return None if cut is None else int(cut.nnz)
 
 
 #: Networks kept per process, so that consecutive cases on one lattice reuse the backends'
