@@ -23,7 +23,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from .._errors import UnsupportedMethodError
-from .._measures import mode_entropy
+from .._measures import von_neumann_entropy
 from .._methods import Method
 from .._network import OscillatorNetwork
 from .._regions import Region
@@ -197,10 +197,6 @@ def _sectors(n_radial, n, ls, dim, mass, n_jobs):
         joblib.delayed(_sector)(n_radial, n, l, dim, mass) for l in ls)
 
 
-def _entropy_of(spec):
-    return float(np.dot(spec.weights, mode_entropy(spec.t)))
-
-
 def _remainder_bound(f_last, l_last, p_last):
     """Σ_{l > l_last} f(l) ≤ ∫ f(l_last)(l/l_last)^{−p} dl when the local exponent only grows."""
     if not p_last > 1:
@@ -226,7 +222,7 @@ def _l_sum(network, n, *, lmax, rtol, atol, n_jobs):
     ls = np.arange(explicit + 1)
     specs = _sectors(nr, n, ls, dim, mass, n_jobs)
     weights = degeneracy(ls, dim)
-    terms = np.array([_entropy_of(s) * w for s, w in zip(specs, weights)])
+    terms = np.array([von_neumann_entropy(s) * w for s, w in zip(specs, weights)])
     parts = list(zip(specs, weights.tolist()))
     s_explicit = float(terms.sum())
     p_local = _exponent(terms[-2], terms[-1], explicit - 1, explicit) if explicit >= 2 else 0
@@ -251,7 +247,7 @@ def _l_sum(network, n, *, lmax, rtol, atol, n_jobs):
         sp_ = _sectors(nr, n, lq, dim, mass, n_jobs)
         g = degeneracy(lq, dim)
         wq = np.concatenate([ws, wc]) * lq * g  # dl = l du
-        s_node = np.array([_entropy_of(s) for s in sp_])
+        s_node = np.array([von_neumann_entropy(s) for s in sp_])
         tail += float(np.dot(s_node[:k], wq[:k]))
         tail_check += float(np.dot(s_node[k:], wq[k:]))
         parts += [(s, float(w)) for s, w in zip(sp_[:k], wq[:k])]

@@ -22,7 +22,7 @@ import scipy.special
 
 from .._errors import ConvergenceError, UnsupportedMethodError
 from .._lattices import HypercubicLattice, hypercubic
-from .._measures import mode_entropy
+from .._measures import von_neumann_entropy
 from .._methods import Method
 from .._spectrum import SymplecticSpectrum, combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
@@ -188,7 +188,7 @@ def _zone_parts(lat, axes, start, stop, levels, nodes):
 
 
 def _entropy_of(parts):
-    return sum(wt * float(np.dot(s.weights, mode_entropy(s.t))) for s, wt in parts)
+    return sum(wt * von_neumann_entropy(s) for s, wt in parts)
 
 
 class TransverseMethod(Method):
