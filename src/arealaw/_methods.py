@@ -76,8 +76,9 @@ def restricted_plan(network, indices, tol):
 
 def restricted_block_spectrum(backend, network, rows, tol):
     """Restricted spectrum from a backend's operators X_A, P_A (the BlockMethod hook)."""
-    x, p, x_error, p_error, info = backend.operators(network, rows, tol=tol)
-    return restricted_spectrum(x, p, tol=tol, x_error=x_error, p_error=p_error, info=info)
+    ops = backend.operators(network, rows, tol=tol)
+    return restricted_spectrum(ops.x, ops.p, tol=tol, x_error=ops.x_error, p_error=ops.p_error,
+                               trace=ops.trace, info=ops.info)
 
 
 class Method:

@@ -5,7 +5,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse.linalg as spla
 
-__all__ = ["Assessment", "Blocks", "CorrelatorBackend"]
+__all__ = ["Assessment", "Blocks", "CorrelatorBackend", "RegionOperators"]
 
 
 @dataclass
@@ -22,6 +22,22 @@ class Blocks:
     x_error: float = 0.0
     p_error: float = 0.0
     info: dict = field(default_factory=dict)
+
+
+@dataclass
+class RegionOperators:
+    """X_A and P_A of one region as operators (only products are used), with error bounds.
+
+    ``trace`` is (tr(X_A P_A) − n/4, bound on its error) where the backend can form it without
+    products (the restricted solver needs it; otherwise it costs 2n products).
+    """
+
+    x: spla.LinearOperator
+    p: spla.LinearOperator
+    x_error: float = 0.0
+    p_error: float = 0.0
+    info: dict = field(default_factory=dict)
+    trace: tuple = None
 
 
 @dataclass
@@ -56,10 +72,14 @@ class CorrelatorBackend:
         raise NotImplementedError
 
     def operators(self, network, rows, *, tol):
-        """Return (X_A, P_A, x_error, p_error, info) with X_A, P_A as LinearOperators."""
+        """Return :class:`RegionOperators` for the region ``rows`` (default: its dense blocks)."""
         b = self.blocks(network, rows, tol=tol)
-        return (spla.aslinearoperator(b.x), spla.aslinearoperator(b.p), b.x_error, b.p_error,
-                b.info)
+        return RegionOperators(spla.aslinearoperator(b.x), spla.aslinearoperator(b.p),
+                               b.x_error, b.p_error, b.info)
+
+    def operator_bytes(self, network, rows):
+        """Memory that :meth:`operators` needs for the region ``rows`` (default: dense blocks)."""
+        return 16.0 * float(np.asarray(rows).size) ** 2
 
     def __repr__(self):
         return f"<{type(self).__name__} {self.name!r}>"
