@@ -228,3 +228,13 @@ def test_tiny_mass_on_a_torus_is_a_convergence_error():
     net = al.hypercubic(5, mass=1e-100, boundary="periodic")
     with pytest.raises(al.ConvergenceError, match="too short"):
         spectral_correlators(net, [0, 1])
+
+
+def test_auto_reports_parity_sectors_only_for_symmetric_regions():
+    from arealaw._methods import choose_method
+    net = al.hypercubic((100, 100, 100), mass=0.0)
+    symmetric = choose_method(net, [al.ball(net, 13)], tol=1e-10)
+    assert symmetric.method.name == "spectral" and "8 parity sectors" in symmetric.reason
+    # centred on a site, the ball is not mirrored by the Dirichlet box: no sectors to claim
+    off = choose_method(net, [al.ball(net, 13, center=(50, 50, 50))], tol=1e-10)
+    assert "parity" not in off.reason and "restricted" in off.reason

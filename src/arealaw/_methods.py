@@ -16,7 +16,8 @@ from ._restricted import restricted_spectrum
 from ._spectrum import symplectic_spectrum
 from .correlators import Assessment, get_backend
 
-__all__ = ["BlockMethod", "Choice", "Method", "choose_method", "method_names", "register_method"]
+__all__ = ["BlockMethod", "Choice", "Method", "choose_method", "dense_spectrum_seconds",
+           "method_names", "register_method"]
 
 #: Regions above this size are sent to the restricted solver when one is registered (a dense
 #: eigenproblem beyond it does not fit this machine); below it the cheaper estimate decides.
@@ -49,7 +50,8 @@ def restricted_modes_estimate(n, boundary, tol):
     return float(min(n, max(64.0, per_site * boundary)))
 
 
-def _dense_seconds(n):
+def dense_spectrum_seconds(n):
+    """Estimated seconds of a dense symplectic eigenproblem of ``n`` sites."""
     return _DENSE_SECONDS_PER_FLOP * 4.0 * float(n) ** 3
 
 
@@ -69,7 +71,7 @@ def restricted_plan(network, indices, tol):
     if n <= DENSE_SPECTRUM_LIMIT and n < RESTRICTED_MIN_SITES:
         return None
     m = restricted_modes_estimate(n, _boundary_sites(network, indices), tol)
-    if n > DENSE_SPECTRUM_LIMIT or _restricted_seconds(n, m) < 0.5 * _dense_seconds(n):
+    if n > DENSE_SPECTRUM_LIMIT or _restricted_seconds(n, m) < 0.5 * dense_spectrum_seconds(n):
         return m
     return None
 
@@ -129,9 +131,9 @@ class BlockMethod(Method):
         m = None if self.restricted_solver is None else restricted_plan(network, big.indices, tol)
         if m is not None:
             cost = a.seconds + len(regions) * _restricted_seconds(n_max, m)
-            return Assessment(True, a.reason + "; restricted Lanczos spectrum",
-                              max(a.bytes, 16.0 * n_max * (n_max + m)), cost)
-        cost = a.seconds + len(regions) * _dense_seconds(n_max)
+            need = self.backend.operator_bytes(network, big.indices) + 16.0 * n_max * m
+            return Assessment(True, a.reason + "; restricted Lanczos spectrum", need, cost)
+        cost = a.seconds + len(regions) * dense_spectrum_seconds(n_max)
         return Assessment(True, a.reason, max(a.bytes, _dense_spectrum_bytes(n_max)), cost)
 
     def spectrum(self, network, region, *, tol):

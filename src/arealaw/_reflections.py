@@ -10,7 +10,8 @@ The sector bases are orthonormal ±1/√|orbit| vectors, so block errors carry o
 import numpy as np
 import scipy.sparse as sp
 
-from ._methods import BlockMethod
+from ._methods import BlockMethod, dense_spectrum_seconds
+from .correlators import Assessment
 from ._spectrum import combine_spectra, symplectic_spectrum
 
 __all__ = ["ReflectionBlockMethod", "reflection_sectors"]
@@ -120,6 +121,23 @@ class ReflectionBlockMethod(BlockMethod):
     info, so the error of the full region block can be bounded (n × entry bound); otherwise the
     whole block is used.
     """
+
+    def assess(self, network, regions, *, tol):
+        """As :class:`BlockMethod`, but regions that split into sectors cost their sectors."""
+        groups = [None if r.size < MIN_SECTOR_REGION else _group(network, r.indices)
+                  for r in regions]
+        if not regions or any(g is None or g.size < 2 for g in groups):
+            return super().assess(network, regions, tol=tol)
+        a = self.backend.assess(network, max(r.size for r in regions), tol=tol)
+        if not a.ok:
+            return a
+        big = max(regions, key=lambda r: r.size)
+        k = groups[regions.index(big)].size
+        # rows of one site per orbit, then 2^k dense sector eigenproblems of about n/2^k sites
+        need = 2 * 8.0 * big.size * big.size / k + 4 * 8.0 * (big.size / k) ** 2
+        secs = a.seconds / k + sum(k * dense_spectrum_seconds(r.size / g.size)
+                                   for r, g in zip(regions, groups))
+        return Assessment(True, f"{a.reason}; {k} parity sectors", need, secs)
 
     def spectrum(self, network, region, *, tol):
         grp = None if region.size < MIN_SECTOR_REGION else _group(network, region.indices)
