@@ -9,7 +9,8 @@ import scipy.sparse.linalg as spla
 import arealaw
 from arealaw import (ConvergenceError, entropy_error_bound, renyi_entropy, symplectic_spectrum,
                      von_neumann_entropy)
-from arealaw._restricted import operator_trace, restricted_spectrum
+from arealaw._restricted import restricted_spectrum
+from arealaw.correlators import operator_trace
 from arealaw.correlators import get_backend
 
 ORDERS = [1.0, 2.0, 0.5, np.inf]

@@ -23,56 +23,12 @@ from ._errors import ConvergenceError
 from ._measures import mode_entropy
 from ._memory import require_memory
 from ._spectrum import SymplecticSpectrum, Tail, symplectic_spectrum
+from .correlators import operator_trace
+from .correlators._base import as_array, apply
 
-__all__ = ["operator_trace", "restricted_spectrum"]
+__all__ = ["restricted_spectrum"]
 
 _EPS = np.finfo(float).eps
-
-
-def _as_array(op):
-    """The dense matrix behind ``op`` if it has one (ndarray or a wrapped ndarray), else None."""
-    if isinstance(op, np.ndarray):
-        return op
-    a = getattr(op, "A", None)
-    return a if isinstance(a, np.ndarray) else None
-
-
-def _matmat(op, arr, v):
-    return arr @ v if arr is not None else np.asarray(op.matmat(v))
-
-
-def operator_trace(x, p, *, block_size=256):
-    """Σ t = tr(X_A P_A) − n/4 and a bound on its rounding error.
-
-    Dense blocks give Σ_ij x_ij p_ij directly; general operators are applied to blocks of unit
-    vectors (2n products: use only when no cheaper trace is known).  Row sums are formed with ¼
-    already subtracted, so the small total does not cancel against n/4.
-
-    Examples
-    --------
-    >>> import numpy as np
-    >>> from arealaw._restricted import operator_trace
-    >>> s, err = operator_trace(np.eye(3), np.eye(3))
-    >>> float(s), bool(err < 1e-14)
-    (2.25, True)
-    """
-    xa, pa = _as_array(x), _as_array(p)
-    n = x.shape[0]
-    rows = np.empty(n)
-    absrows = np.empty(n)
-    for s in range(0, n, block_size):
-        e = min(n, s + block_size)
-        if xa is not None and pa is not None:
-            prod = xa[s:e] * pa[s:e]
-        else:
-            unit = np.zeros((n, e - s))
-            unit[np.arange(s, e), np.arange(e - s)] = 1.0
-            prod = (_matmat(x, xa, unit) * _matmat(p, pa, unit)).T
-        rows[s:e] = prod.sum(axis=1) - 0.25
-        absrows[s:e] = np.abs(prod).sum(axis=1) + 0.25
-    # pairwise summation: error ≤ (log2 terms + 2)·ε·Σ|terms| for each of the two levels
-    err = 2.0 * (math.log2(max(n, 2)) + 3.0) * _EPS * float(absrows.sum())
-    return float(rows.sum()), err
 
 
 def _norm_bound(op, arr, n, rng):
@@ -119,7 +75,7 @@ def _normalize_block(z, floor, p_op, pa):
     r = np.zeros((b, b))
     if kk:
         w = uq @ uu[:, :kk]
-        pw = _matmat(p_op, pa, w)
+        pw = apply(p_op, pa, w)
         g = w.T @ pw
         lam, ug = scipy.linalg.eigh(0.5 * (g + g.T))
         inv = 1.0 / np.sqrt(lam)
@@ -265,7 +221,7 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
     tau = float(max(tol / 100, 64 * _EPS) if threshold is None else threshold)
     if not tau > 0:
         raise ValueError(f"threshold={threshold!r} must be > 0")
-    xa, pa = _as_array(x), _as_array(p)
+    xa, pa = as_array(x), as_array(p)
     x_op = spla.aslinearoperator(x) if xa is None else None
     p_op = spla.aslinearoperator(p) if pa is None else None
     rng = np.random.default_rng(seed)
@@ -382,7 +338,7 @@ def _block_lanczos(xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trac
         if m + b > n:
             # the Krylov space is about to fill the whole region: the dense form is cheaper
             return result, m, dropped_total, "full"
-        zq = _matmat(x_op, xa, w_all[:, s:m])       # C q_j = X (P q_j)
+        zq = apply(x_op, xa, w_all[:, s:m])       # C q_j = X (P q_j)
         zq -= 0.25 * q_all[:, s:m]                  # shift: T − ¼I has the t as eigenvalues
         qn, pqn, h, r, dropped = _orthonormalize_block(zq, q_all[:, :m], w_all[:, :m], scale,
                                                        rng, p_op, pa)

@@ -4,7 +4,7 @@ Every backend implements :class:`CorrelatorBackend`; :func:`get_backend` looks o
 name used in ``method=``.  New backends register themselves with :func:`register_backend`.
 """
 
-from ._base import Assessment, Blocks, CorrelatorBackend, RegionOperators
+from ._base import Assessment, Blocks, CorrelatorBackend, RegionOperators, operator_trace
 from ._dense import DenseBackend, dense_correlators
 from ._multigrid import IllConditionedWarning, SparseBackend
 from ._spectral import SpectralBackend, spectral_correlators, spectral_trace
@@ -38,7 +38,7 @@ register_backend(SpectralBackend())
 
 __all__ = sorted([
     "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "IllConditionedWarning",
-    "RegionOperators", "SparseBackend", "backend_names",
+    "RegionOperators", "SparseBackend", "backend_names", "operator_trace",
     "SpectralBackend", "dense_correlators", "get_backend", "register_backend",
     "spectral_correlators", "spectral_trace",
 ])

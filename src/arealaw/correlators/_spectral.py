@@ -22,9 +22,10 @@ _EPS = np.finfo(float).eps
 _CHUNK = 2_000_000      # block entries gathered per chunk
 _TABLE_LIMIT = 40_000_000  # table entries (per kind) before refusing
 #: Seconds per grid point per vector of an FFT box product, and per entry per vector of a
-#: dense block product (one BLAS thread, measured on 3-D balls by benchmarks/bench_restricted.py)
-FFT_SECONDS_PER_POINT = 7e-8
-DENSE_SECONDS_PER_ENTRY = 5.3e-11
+#: dense block product, inside the restricted solver (one BLAS thread; 3-D balls of radius 10
+#: and 12 in benchmarks/bench_restricted.py)
+FFT_SECONDS_PER_POINT = 3e-8
+DENSE_SECONDS_PER_ENTRY = 1.4e-10
 
 
 class _Plan:
