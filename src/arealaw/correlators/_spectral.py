@@ -25,7 +25,7 @@ _TABLE_LIMIT = 40_000_000  # table entries (per kind) before refusing
 #: dense block product, inside the restricted solver (one BLAS thread; 3-D balls of radius 10
 #: and 12 in benchmarks/bench_restricted.py)
 FFT_SECONDS_PER_POINT = 3e-8
-DENSE_SECONDS_PER_ENTRY = 1.4e-10
+DENSE_SECONDS_PER_ENTRY = 6e-11
 
 
 class _Plan:
