@@ -106,3 +106,17 @@ def test_auto_operators_pick_dense_for_small_regions_and_report_why():
 def test_bad_operator_kind_is_refused():
     with pytest.raises(ValueError, match="operators='gpu'"):
         SpectralBackend(operators="gpu")
+
+
+def test_auto_operators_go_matrix_free_when_dense_blocks_would_not_fit(monkeypatch):
+    import arealaw.correlators._spectral as spectral
+    net = arealaw.hypercubic((32, 32, 32), mass=0.0)
+    idx = ball(net, 10).indices
+    backend = SpectralBackend()
+    dense_bytes = 16.0 * idx.size**2
+    assert backend.operator_bytes(net, idx) == dense_bytes
+    monkeypatch.setattr(spectral, "available_bytes", lambda: dense_bytes)
+    ops = backend.operators(net, idx, tol=1e-12)
+    assert ops.info["operator"] == "fft-box"
+    assert "would not fit" in ops.info["operator_reason"]
+    assert backend.operator_bytes(net, idx) < dense_bytes

@@ -23,6 +23,7 @@ from ._heat_kernel import KernelTables, lattice_axes
 __all__ = ["BoxConvolution", "box_grid_points", "box_operator_bytes", "box_operators"]
 
 _EPS = np.finfo(float).eps
+_WORK_BYTES = 2**28      # complex working grids of one batch of columns
 
 
 class _BoxPlan:
@@ -79,8 +80,8 @@ class BoxConvolution(spla.LinearOperator):
         self.norm_bound = sum(float(np.abs(a).max()) for a in spectra.values())
         size = int(np.prod(self.grid))
         self.rounding = 5.0 * _EPS * math.log2(max(size, 2)) * self.norm_bound
-        # columns per FFT batch: about 4 complex half-grids each, 256 MiB in all
-        self.step = max(1, int(2**28 // (4 * 16 * size // 2 + 1)))
+        # columns per FFT batch: about 4 complex half-grids each, _WORK_BYTES in all
+        self.step = max(1, int(_WORK_BYTES // (4 * 16 * size // 2 + 1)))
 
     def _matmat(self, v):
         v = np.asarray(v, dtype=float)
@@ -150,7 +151,8 @@ def box_grid_points(widths):
 def box_operator_bytes(widths, n_terms):
     """Memory of the kernel transforms (2 kinds × ``n_terms``), tables and working grids."""
     size = box_grid_points(widths)
-    return 16.0 * size * (2 * n_terms + 4) + 2**28 + 8.0 * 10 * float(
+    work = min(_WORK_BYTES, 64 * 4 * 8.0 * size)   # a 64-column block, 4 half-grids each
+    return 16.0 * size * (2 * n_terms) + work + 8.0 * 10 * float(
         np.prod([2 * (2 * w - 1) for w in widths]))
 
 
