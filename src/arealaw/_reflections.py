@@ -11,8 +11,8 @@ import numpy as np
 import scipy.sparse as sp
 
 from ._methods import BlockMethod, dense_spectrum_seconds
-from .correlators import Assessment
 from ._spectrum import combine_spectra, symplectic_spectrum
+from .correlators import Assessment
 
 __all__ = ["ReflectionBlockMethod", "reflection_sectors"]
 

@@ -7,7 +7,7 @@ import numpy as np
 import scipy.sparse.linalg as spla
 
 __all__ = ["Assessment", "Blocks", "CorrelatorBackend", "RegionOperators", "apply", "as_array",
-           "operator_trace"]
+           "operator_trace", "trace_rounding"]
 
 _EPS = np.finfo(float).eps
 
@@ -54,9 +54,13 @@ def operator_trace(x, p, *, block_size=256):
             prod = (apply(x, xa, unit) * apply(p, pa, unit)).T
         rows[s:e] = prod.sum(axis=1) - 0.25
         absrows[s:e] = np.abs(prod).sum(axis=1) + 0.25
+    return float(rows.sum()), trace_rounding(n, float(absrows.sum()))
+
+
+def trace_rounding(n, abs_total):
+    """Rounding bound of a trace summed as n row sums of n terms (``abs_total`` = Σ|terms|)."""
     # pairwise summation: error ≤ (log2 terms + 2)·ε·Σ|terms| for each of the two levels
-    err = 2.0 * (math.log2(max(n, 2)) + 3.0) * _EPS * float(absrows.sum())
-    return float(rows.sum()), err
+    return 2.0 * (math.log2(max(n, 2)) + 3.0) * _EPS * abs_total
 
 
 @dataclass

@@ -12,7 +12,7 @@ import numpy as np
 
 from .._errors import UnsupportedMethodError
 from .._memory import available_bytes, require_memory
-from ._base import Assessment, Blocks, CorrelatorBackend, RegionOperators
+from ._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
 from ._convolution import box_grid_points, box_operator_bytes, box_operators
 from ._heat_kernel import KernelTables, lattice_axes
 
@@ -200,8 +200,7 @@ def spectral_trace(network, rows, *, tol=1e-12, rep_rows=None, weights=None):
         abs_x += float(ww @ np.abs(xs).sum(axis=1))
         abs_p += float(ww @ np.abs(ps).sum(axis=1))
     ex, ep = gather.entry_x, gather.entry_p
-    rounding = 2.0 * (math.log2(max(n, 2)) + 3.0) * _EPS * abs_total
-    return total, rounding + ep * abs_x + ex * abs_p + float(n) * n * ex * ep
+    return total, trace_rounding(n, abs_total) + ep * abs_x + ex * abs_p + float(n) * n * ex * ep
 
 
 class SpectralBackend(CorrelatorBackend):
