@@ -120,3 +120,9 @@ def test_auto_operators_go_matrix_free_when_dense_blocks_would_not_fit(monkeypat
     assert ops.info["operator"] == "fft-box"
     assert "would not fit" in ops.info["operator_reason"]
     assert backend.operator_bytes(net, idx) < dense_bytes
+
+
+def test_operators_refuse_lattices_the_spectral_method_cannot_serve():
+    net = arealaw.hypercubic((8, 8), mass=0.5, mass_disorder=0.2, seed=1)
+    with pytest.raises(arealaw.UnsupportedMethodError, match="uniform lattice"):
+        FFT.operators(net, box(net, 3).indices, tol=1e-12)

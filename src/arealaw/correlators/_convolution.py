@@ -18,7 +18,7 @@ import scipy.sparse.linalg as spla
 
 from .._memory import require_memory
 from ._base import RegionOperators
-from ._heat_kernel import KernelTables, lattice_axes
+from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
 
 __all__ = ["BoxConvolution", "box_grid_points", "box_operator_bytes", "box_operators"]
 
@@ -120,19 +120,15 @@ class BoxConvolution(spla.LinearOperator):
 def _kernel_spectra(table, plan, axes, factor):
     """{flipped axes: FFT(signed kernel on the grid) · phase} from a table of g on plan.args."""
     d = len(axes)
-    combos = np.array(np.meshgrid(*[range(len(ax.terms)) for ax in axes],
-                                  indexing="ij")).reshape(d, -1).T
     out = {}
-    for combo in combos:
+    for combo, sign, flipped in image_combos(axes):
         idx = [plan.term_index[a][combo[a]] for a in range(d)]
         kern = table[np.ix_(*idx)]
         for a in range(d):
             shape = [1] * d
             shape[a] = -1
             kern = kern * plan.valid[a].reshape(shape)
-        sign = float(np.prod([axes[a].terms[combo[a]][0] for a in range(d)]))
         spec = scipy.fft.fftn(factor * sign * kern, workers=1)
-        flipped = tuple(a for a in range(d) if axes[a].terms[combo[a]][1] > 0)
         for a in flipped:
             shape = [1] * d
             shape[a] = -1
@@ -176,18 +172,16 @@ def box_operators(network, rows, *, tol):
     axes = lattice_axes(lat)
     coords = network.coords(np.asarray(rows, dtype=np.int64).ravel())
     plan = _BoxPlan(axes, coords)
-    n_terms = int(np.prod([len(ax.terms) for ax in axes]))
+    n_terms = len(image_combos(axes))
     require_memory(box_operator_bytes(plan.width, n_terms),
                    f"FFT operators on a {'×'.join(str(int(w)) for w in plan.width)} box",
                    "use a more compact region")
     tables = KernelTables(lat.mass, axes, plan, tol)
-    c = float(lat.inertia)
-    fx, fp = 0.5 / math.sqrt(c), 0.5 * math.sqrt(c)
+    fx, fp = correlator_factors(lat)
     x = BoxConvolution(_kernel_spectra(tables.vm, plan, axes, fx), plan.flat, plan.grid)
     p = BoxConvolution(_kernel_spectra(tables.vp, plan, axes, fp), plan.flat, plan.grid)
     n = float(coords.shape[0])
-    entry_x = fx * n_terms * (tables.err_x + 2 * _EPS * np.abs(tables.vm).max())
-    entry_p = fp * n_terms * (tables.err_p + 2 * _EPS * np.abs(tables.vp).max())
+    entry_x, entry_p = tables.entry_errors(n_terms, fx, fp)
     info = dict(tables.info, image_terms=n_terms, operator="fft-box",
                 box=[int(w) for w in plan.width], fft_grid=list(plan.grid),
                 entry_x_error=entry_x, entry_p_error=entry_p)

@@ -9,6 +9,7 @@ s = exp(π/2 · sinh t) (doubly exponential convergence at both ends), halving t
 successive estimates agree; their difference is the reported quadrature error.
 """
 
+import itertools
 import math
 
 import numpy as np
@@ -16,7 +17,7 @@ import scipy.special
 
 from .._errors import ConvergenceError
 
-__all__ = ["Axis", "KernelTables", "lattice_axes"]
+__all__ = ["Axis", "KernelTables", "correlator_factors", "image_combos", "lattice_axes"]
 
 _EPS = np.finfo(float).eps
 _T_MAX = 6.0            # t range of the sinh map: s = exp(±π/2·sinh 6) ≈ e^{±317}
@@ -192,6 +193,11 @@ class KernelTables:
                      "quadrature_levels": levels, "quadrature_diff_x": diff_x,
                      "quadrature_diff_p": diff_p, "table_shape": list(plan.table_shape)}
 
+    def entry_errors(self, n_terms, fx, fp):
+        """Bounds on one entry of X = fx·Σ±g and P = fp·Σ±g summed from ``n_terms`` table values."""
+        return (fx * n_terms * (self.err_x + 2 * _EPS * np.abs(self.vm).max()),
+                fp * n_terms * (self.err_p + 2 * _EPS * np.abs(self.vp).max()))
+
     def _sums(self, h, offset):
         s, jac = _nodes(h, offset)
         base = jac * np.exp(-s * self.m2) / np.sqrt(s * math.pi)
@@ -222,3 +228,19 @@ class KernelTables:
 def lattice_axes(lattice):
     return [Axis(n, j, b) for n, j, b in zip(lattice.shape, lattice.couplings,
                                               lattice.boundaries)]
+
+
+def image_combos(axes):
+    """Every choice of one kernel term per axis: (term per axis, sign, axes using the image)."""
+    out = []
+    for combo in itertools.product(*[range(len(ax.terms)) for ax in axes]):
+        sign = float(np.prod([axes[a].terms[t][0] for a, t in enumerate(combo)]))
+        flipped = tuple(a for a, t in enumerate(combo) if axes[a].terms[t][1] > 0)
+        out.append((combo, sign, flipped))
+    return out
+
+
+def correlator_factors(lattice):
+    """(fx, fp) with X = fx·V^{-1/2}, P = fp·V^{1/2} for the scalar inertia c (M = c·I)."""
+    c = float(lattice.inertia)
+    return 0.5 / math.sqrt(c), 0.5 * math.sqrt(c)

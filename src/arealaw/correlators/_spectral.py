@@ -14,11 +14,10 @@ from .._errors import UnsupportedMethodError
 from .._memory import available_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
 from ._convolution import box_grid_points, box_operator_bytes, box_operators
-from ._heat_kernel import KernelTables, lattice_axes
+from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
 
 __all__ = ["SpectralBackend", "spectral_correlators", "spectral_trace"]
 
-_EPS = np.finfo(float).eps
 _CHUNK = 2_000_000      # block entries gathered per chunk
 _TABLE_LIMIT = 40_000_000  # table entries (per kind) before refusing
 #: Seconds per grid point per vector of an FFT box product, and per entry per vector of a
@@ -47,7 +46,8 @@ class _Plan:
         self.table_shape = tuple(a.size for a in self.args)
         self.strides = [int(np.prod(self.table_shape[a + 1:], dtype=np.int64))
                         for a in range(len(axes))]
-        self.n_terms = int(np.prod([len(ax.terms) for ax in axes]))
+        self.combos = image_combos(axes)
+        self.n_terms = len(self.combos)
 
 
 def _check_served(network):
@@ -79,10 +79,8 @@ class _Gather:
         require_memory(8.0 * table_size * (6 + len(axes)), "the spectral kernel table",
                        "use a more compact region")
         self.tables = tables = KernelTables(lat.mass, axes, plan, tol)
-        c = float(lat.inertia)
-        self.fx, self.fp = 0.5 / math.sqrt(c), 0.5 * math.sqrt(c)
-        self.entry_x = self.fx * plan.n_terms * (tables.err_x + 2 * _EPS * np.abs(tables.vm).max())
-        self.entry_p = self.fp * plan.n_terms * (tables.err_p + 2 * _EPS * np.abs(tables.vp).max())
+        self.fx, self.fp = correlator_factors(lat)
+        self.entry_x, self.entry_p = tables.entry_errors(plan.n_terms, self.fx, self.fp)
         self.info = dict(tables.info, image_terms=plan.n_terms, entry_x_error=self.entry_x,
                          entry_p_error=self.entry_p)
 
@@ -92,8 +90,6 @@ class _Gather:
         vm, vp = self.tables.vm.ravel(), self.tables.vp.ravel()
         n_r, n_c = self.rows.size, self.cols.size
         step = max(1, _CHUNK // max(n_c, 1))
-        combos = np.array(np.meshgrid(*[range(len(ax.terms)) for ax in axes],
-                                      indexing="ij")).reshape(len(axes), -1).T
         for start in range(0, n_r, step):
             sl = slice(start, min(start + step, n_r))
             offs = []
@@ -103,11 +99,10 @@ class _Gather:
                              for ti in plan.term_index[a]])
             xs = np.zeros((sl.stop - sl.start, n_c))
             ps = np.zeros_like(xs)
-            for combo in combos:
+            for combo, sign, _ in plan.combos:
                 flat = offs[0][combo[0]]
                 for a in range(1, len(axes)):
                     flat = flat + offs[a][combo[a]]
-                sign = np.prod([axes[a].terms[combo[a]][0] for a in range(len(axes))])
                 if sign > 0:
                     xs += np.take(vm, flat)
                     ps += np.take(vp, flat)
@@ -244,6 +239,10 @@ class SpectralBackend(CorrelatorBackend):
     def operators(self, network, rows, *, tol):
         """X_A, P_A as FFT box convolutions where cheaper than dense blocks (or where those
         would not fit), with the exact trace gathered row by row; otherwise dense blocks."""
+        why = _check_served(network)
+        if why:
+            raise UnsupportedMethodError(
+                f"the spectral method {why}; use method='dense' or 'sparse'")
         rows = np.asarray(rows, dtype=np.int64).ravel()
         fft, why = self._choose(network, rows)
         if not fft:
