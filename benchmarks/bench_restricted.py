@@ -19,8 +19,8 @@ import scipy.sparse.linalg as spla
 
 from arealaw import (ball, entropy_error_bound, hypercubic, symplectic_spectrum,
                      von_neumann_entropy)
-from arealaw._regions import cut_couplings
-from arealaw._restricted import restricted_spectrum
+from arealaw.network._regions import cut_couplings
+from arealaw.spectrum._restricted import restricted_spectrum
 from arealaw.correlators import SpectralBackend
 
 from ._common import one_blas_thread

@@ -10,9 +10,9 @@ import tempfile
 import time
 from pathlib import Path
 
-from arealaw._scenario import Case
-from arealaw._store import ResultStore
-from arealaw._sweep import run_cases
+from arealaw.workflow._scenario import Case
+from arealaw.workflow._store import ResultStore
+from arealaw.workflow._sweep import run_cases
 
 N_CASES = 12
 

@@ -6,7 +6,7 @@ from numpy.testing import assert_allclose
 
 import arealaw
 from arealaw import ball, box, entropy_error_bound, symplectic_spectrum, von_neumann_entropy
-from arealaw._restricted import restricted_spectrum
+from arealaw.spectrum._restricted import restricted_spectrum
 from arealaw.correlators import (SpectralBackend, get_backend, spectral_correlators,
                                  spectral_trace)
 
@@ -109,7 +109,7 @@ def test_bad_operator_kind_is_refused():
 
 
 def test_auto_operators_go_matrix_free_when_dense_blocks_would_not_fit(monkeypatch):
-    import arealaw.correlators._spectral as spectral
+    import arealaw.correlators.spectral._spectral as spectral
     net = arealaw.hypercubic((32, 32, 32), mass=0.0)
     idx = ball(net, 10).indices
     backend = SpectralBackend()

@@ -4,10 +4,10 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from arealaw._fits import fit_rows, fit_scaling
-from arealaw._scenario import Case
-from arealaw._store import ResultStore
-from arealaw._sweep import run_cases
+from arealaw.workflow._fits import fit_rows, fit_scaling
+from arealaw.workflow._scenario import Case
+from arealaw.workflow._store import ResultStore
+from arealaw.workflow._sweep import run_cases
 
 
 def test_recovers_3d_coefficients_from_noisy_data():

@@ -7,7 +7,7 @@ import pytest
 import scipy.sparse as sp
 
 import arealaw as al
-from arealaw import _memory
+from arealaw import _numerics
 
 
 @pytest.mark.parametrize("v,match", [
@@ -79,7 +79,7 @@ def test_region_from_other_network():
 
 
 def test_memory_refused_up_front(monkeypatch):
-    monkeypatch.setattr(_memory, "available_bytes", lambda: 1e6)
+    monkeypatch.setattr(_numerics, "available_bytes", lambda: 1e6)
     net = al.hypercubic((30, 30), mass=0.5)
     with pytest.raises(al.InsufficientMemoryError, match=r"needs about .* use method"):
         al.correlators.dense_correlators(net)

@@ -5,7 +5,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 import arealaw as al
-from arealaw.reductions import RadialMethod, radial_chain, radial_entropy, radial_lattice, shells
+from arealaw.methods import RadialMethod, radial_chain, radial_entropy, radial_lattice, shells
 
 
 def _direct_chain(n_radial, l, dim):

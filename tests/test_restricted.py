@@ -9,7 +9,7 @@ import scipy.sparse.linalg as spla
 import arealaw
 from arealaw import (ConvergenceError, entropy_error_bound, renyi_entropy, symplectic_spectrum,
                      von_neumann_entropy)
-from arealaw._restricted import restricted_spectrum
+from arealaw.spectrum._restricted import restricted_spectrum
 from arealaw.correlators import operator_trace
 from arealaw.correlators import get_backend
 
@@ -187,7 +187,7 @@ def test_modes_kept_follow_the_boundary_not_the_volume(tol):
 
 
 def test_block_method_uses_restricted_solver_above_limit(monkeypatch):
-    import arealaw._methods as methods
+    import arealaw.methods._registry as methods
     net = arealaw.hypercubic((32, 32), mass=0.0)
     reg = arealaw.box(net, 16)
     ref = arealaw.entropy(net, reg, method="dense", renyi=[2])

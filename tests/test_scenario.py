@@ -2,7 +2,7 @@
 
 import pytest
 
-from arealaw._scenario import Case, case_hash, load_scenario, parse_scenario
+from arealaw.workflow._scenario import Case, case_hash, load_scenario, parse_scenario
 
 BASE = """
 [lattices.chain]

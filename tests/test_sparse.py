@@ -11,8 +11,8 @@ from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy, fr
                      hypercubic)
 from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_correlators,
                                  get_backend)
-from arealaw.correlators._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
-from arealaw.correlators._shifted import amg_shifted_cg, multishift_cg
+from arealaw.correlators.sparse._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
+from arealaw.correlators.sparse._shifted import amg_shifted_cg, multishift_cg
 
 
 def _general_mass(n, seed):

@@ -207,7 +207,7 @@ def test_reflection_sectors_give_the_dense_entropy(case, radius):
 
 
 def test_reflection_sectors_are_orthonormal_and_commute_with_x():
-    from arealaw._reflections import reflection_sectors
+    from arealaw.methods._reflections import reflection_sectors
     net = al.hypercubic((7, 8), mass=0.4, boundary=("dirichlet", "periodic"))
     reg = al.box(net, (5, 4), origin=(1, 2))
     basis = np.hstack([b.toarray() for b in reflection_sectors(net, reg.indices)])
@@ -231,7 +231,7 @@ def test_tiny_mass_on_a_torus_is_a_convergence_error():
 
 
 def test_auto_reports_parity_sectors_only_for_symmetric_regions():
-    from arealaw._methods import choose_method
+    from arealaw.methods._registry import choose_method
     net = al.hypercubic((100, 100, 100), mass=0.0)
     symmetric = choose_method(net, [al.ball(net, 13)], tol=1e-10)
     assert symmetric.method.name == "spectral" and "8 parity sectors" in symmetric.reason

@@ -10,9 +10,9 @@ import time
 import pytest
 from numpy.testing import assert_allclose
 
-from arealaw._scenario import Case, load_scenario
-from arealaw._store import ResultStore
-from arealaw._sweep import compute_case
+from arealaw.workflow._scenario import Case, load_scenario
+from arealaw.workflow._store import ResultStore
+from arealaw.workflow._sweep import compute_case
 
 
 def _case(n=8, mass=0.5):

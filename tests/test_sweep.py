@@ -7,9 +7,9 @@ import pytest
 from numpy.testing import assert_allclose
 
 from arealaw import box, entropy, hypercubic
-from arealaw._scenario import Case, parse_scenario
-from arealaw._store import ResultStore
-from arealaw._sweep import boundary_bonds, compute_case, run_cases
+from arealaw.workflow._scenario import Case, parse_scenario
+from arealaw.workflow._store import ResultStore
+from arealaw.workflow._sweep import boundary_bonds, compute_case, run_cases
 
 SCENARIO = """
 [numerics]
@@ -110,7 +110,7 @@ def test_boundary_bonds_count_the_cut():
 
 
 def test_most_entangled_mode_is_an_eigenvector_of_xp():
-    from arealaw._plots import entangled_modes
+    from arealaw.views._plots import entangled_modes
     from arealaw.correlators import dense_correlators
     net = hypercubic((8, 8), mass=0.3)
     reg = box(net, [3, 3])

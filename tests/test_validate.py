@@ -4,8 +4,8 @@ import json
 
 import pytest
 
-import arealaw._validation as validation
-from arealaw._validation import Reference, references, run_validation
+import arealaw.workflow._validation as validation
+from arealaw.workflow._validation import Reference, references, run_validation
 from arealaw.cli import main
 
 

@@ -12,24 +12,19 @@ Examples
 True
 """
 
-from . import _builtin_methods  # noqa: F401  (registers dense, spectral, sparse, ...)
+from .methods import _builtin  # noqa: F401  (registers dense, spectral, sparse, ...)
 from ._entropy import EntropyResult, entropy, logarithmic_negativity
 from ._errors import ConvergenceError, InsufficientMemoryError, UnsupportedMethodError
-from ._fits import FitResult, fit_rows, fit_scaling
-from ._lattices import HypercubicLattice, hypercubic
-from ._measures import (entanglement_energies, entropy_error_bound, mode_entropy,
-                        mutual_information, renyi_entropy, von_neumann_entropy)
-from ._methods import choose_method, method_names
-from ._network import OscillatorNetwork, load_network
-from ._regions import (Region, ball, box, complement, difference, from_mask, from_sites,
-                       half_space, intersection, slab, union)
-from ._report import write_report
-from ._restricted import restricted_spectrum
-from ._scenario import Case, Scenario, load_scenario, parse_scenario
-from ._spectrum import SymplecticSpectrum, Tail, combine_spectra, symplectic_spectrum
-from ._store import ResultStore
-from ._sweep import run_cases
-from .reductions import radial_entropy, radial_lattice, shells
+from .methods import choose_method, method_names, radial_entropy, radial_lattice, shells
+from .network import (HypercubicLattice, OscillatorNetwork, Region, ball, box, complement,
+                      difference, from_mask, from_sites, half_space, hypercubic, intersection,
+                      load_network, slab, union)
+from .spectrum import (SymplecticSpectrum, Tail, combine_spectra, entanglement_energies,
+                       entropy_error_bound, mode_entropy, mutual_information, renyi_entropy,
+                       restricted_spectrum, symplectic_spectrum, von_neumann_entropy)
+from .views import write_report
+from .workflow import (Case, FitResult, ResultStore, Scenario, fit_rows, fit_scaling,
+                       load_scenario, parse_scenario, run_cases)
 
 __version__ = "0.1.0"
 

@@ -7,10 +7,10 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.linalg
 
-from ._measures import (entanglement_energies, entropy_error_bound, mutual_information,
+from .spectrum._measures import (entanglement_energies, entropy_error_bound, mutual_information,
                         normalize_order, order_label, renyi_entropy, von_neumann_entropy)
-from ._methods import choose_method
-from ._regions import Region, union
+from .methods._registry import choose_method
+from .network._regions import Region, union
 
 __all__ = ["EntropyResult", "entropy", "logarithmic_negativity"]
 

@@ -56,7 +56,7 @@ def parse_extent(text):
 
 def parse_order(text):
     """A Rényi order: number > 0 or 'inf'."""
-    from .._measures import normalize_order
+    from ..spectrum._measures import normalize_order
     try:
         return normalize_order(text)
     except ValueError as exc:

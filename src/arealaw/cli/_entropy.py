@@ -3,9 +3,9 @@
 import math
 
 from .._entropy import DEFAULT_TOL, entropy, logarithmic_negativity
-from .._methods import method_names
-from ..reductions import radial_lattice, shells
-from .._specs import network_from_spec, region_from_spec
+from ..methods._registry import method_names
+from ..methods import radial_lattice, shells
+from ..network._specs import network_from_spec, region_from_spec
 from ._common import HelpFormatter, parse_extent, parse_order, print_json
 
 __all__ = ["register"]

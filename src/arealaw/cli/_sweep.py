@@ -37,7 +37,7 @@ Law: S = a R^(d-1) + b ln R + c in d >= 2; S = (c/3) ln l + const in 1-D (two en
 
 
 def _store(path, *, must_exist=True):
-    from .._store import ResultStore
+    from ..workflow._store import ResultStore
     if must_exist and not Path(path).is_file():
         raise ValueError(f"store {str(path)!r} does not exist; run a scenario first "
                          "(arealaw run SCENARIO.toml --store PATH)")
@@ -129,7 +129,7 @@ def _fit_options(p, family=True):
 
 
 def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout=20.0):
-    from .._sweep import connect, run_cases
+    from ..workflow._sweep import connect, run_cases
     client = connect(scheduler, timeout=scheduler_timeout) if scheduler else None
     try:
         with _store(store_path, must_exist=False) as store:
@@ -149,7 +149,7 @@ def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout
 
 
 def cmd_run(args):
-    from .._scenario import load_scenario
+    from ..workflow._scenario import load_scenario
     scenario = load_scenario(args.scenario)
     store = args.store or str(Path(scenario.out) / "results.sqlite")
     return _sweep(scenario, store, args.workers, args.scheduler, not args.no_progress,
@@ -196,8 +196,8 @@ def cmd_results(args):
 
 
 def _fits(args, store):
-    from .._fits import fit_rows
-    from .._report import fit_groups, group_name
+    from ..workflow._fits import fit_rows
+    from ..views._report import fit_groups, group_name
     rows = store.rows(getattr(args, "family", None))
     if not rows:
         what = f"family {args.family!r}" if getattr(args, "family", None) else "anything"
@@ -238,7 +238,7 @@ def _slug(name):
 
 
 def cmd_plot(args):
-    from .._plots import energies_figure, figure_png, scaling_figure
+    from ..views._plots import energies_figure, figure_png, scaling_figure
     out = Path(args.out)
     out.mkdir(parents=True, exist_ok=True)
     written = []
@@ -261,9 +261,9 @@ def cmd_plot(args):
 
 
 def _region_pngs(rows, region_path, modes_path):
-    from .._plots import figure_png, mode_figure, region_figure
-    from .._report import mode_row
-    from .._specs import network_from_spec, region_from_spec
+    from ..views._plots import figure_png, mode_figure, region_figure
+    from ..views._report import mode_row
+    from ..network._specs import network_from_spec, region_from_spec
     written = []
     for row, path in ((max(rows, key=lambda r: r["x"]), region_path), (mode_row(rows), modes_path)):
         if row is None:
@@ -281,7 +281,7 @@ def _region_pngs(rows, region_path, modes_path):
 
 
 def cmd_report(args):
-    from .._report import write_report
+    from ..views._report import write_report
     with _store(args.store) as store:
         path = write_report(store, args.out, title=args.title, powers=args.power,
                             endpoints=args.endpoints, size=args.size)
@@ -295,9 +295,9 @@ def demo_scenario_text():
 
 
 def cmd_demo(args):
-    from .._fits import fit_rows
-    from .._report import fit_groups, write_report
-    from .._scenario import parse_scenario
+    from ..workflow._fits import fit_rows
+    from ..views._report import fit_groups, write_report
+    from ..workflow._scenario import parse_scenario
     text = demo_scenario_text()
     if args.save_scenario:
         Path(args.save_scenario).write_text(text, encoding="utf-8")

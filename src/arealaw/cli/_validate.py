@@ -2,7 +2,7 @@
 
 import sys
 
-from .._validation import references, run_validation
+from ..workflow._validation import references, run_validation
 from ._common import HelpFormatter, print_json
 
 __all__ = ["register"]

@@ -6,8 +6,8 @@ name used in ``method=``.  New backends register themselves with :func:`register
 
 from ._base import Assessment, Blocks, CorrelatorBackend, RegionOperators, operator_trace
 from ._dense import DenseBackend, dense_correlators
-from ._multigrid import IllConditionedWarning, SparseBackend
-from ._spectral import SpectralBackend, spectral_correlators, spectral_trace
+from .sparse import IllConditionedWarning, SparseBackend
+from .spectral import SpectralBackend, spectral_correlators, spectral_trace
 
 _REGISTRY = {}
 

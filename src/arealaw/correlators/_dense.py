@@ -6,7 +6,7 @@ import numpy as np
 import scipy.linalg
 
 from .._errors import UnsupportedMethodError
-from .._memory import available_bytes, format_bytes, require_memory
+from .._numerics import available_bytes, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 
 __all__ = ["DenseBackend", "dense_correlators"]

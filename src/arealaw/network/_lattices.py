@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
-from ._memory import available_bytes
+from .._numerics import available_bytes
 from ._network import OscillatorNetwork
 
 __all__ = ["BOUNDARIES", "HypercubicLattice", "hypercubic"]

@@ -9,12 +9,12 @@ for an :class:`~arealaw.correlators.Assessment` and takes the cheapest that can 
 
 import numpy as np
 
-from ._errors import UnsupportedMethodError
-from ._memory import available_bytes, format_bytes, require_memory
-from ._regions import cut_couplings
-from ._restricted import restricted_spectrum
-from ._spectrum import symplectic_spectrum
-from .correlators import Assessment, get_backend
+from .._errors import UnsupportedMethodError
+from .._numerics import available_bytes, format_bytes, require_memory
+from ..network._regions import cut_couplings
+from ..spectrum._restricted import restricted_spectrum
+from ..spectrum._symplectic import symplectic_spectrum
+from ..correlators import Assessment, get_backend
 
 __all__ = ["BlockMethod", "Choice", "Method", "choose_method", "dense_spectrum_seconds",
            "method_names", "register_method"]

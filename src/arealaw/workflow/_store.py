@@ -46,7 +46,7 @@ class ResultStore:
     Examples
     --------
     >>> import tempfile, os
-    >>> from arealaw._scenario import Case
+    >>> from arealaw.workflow._scenario import Case
     >>> with tempfile.TemporaryDirectory() as d:
     ...     with ResultStore(os.path.join(d, "r.sqlite")) as st:
     ...         c = Case({"shape": [8], "mass": 0.5}, {"box": [4]})

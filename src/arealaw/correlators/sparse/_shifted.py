@@ -17,7 +17,7 @@ import pyamg
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from .._errors import ConvergenceError
+from ..._errors import ConvergenceError
 
 __all__ = ["amg_shifted_cg", "multishift_cg"]
 

@@ -21,10 +21,10 @@ import numpy as np
 import scipy.special
 
 from .._errors import ConvergenceError, UnsupportedMethodError
-from .._lattices import HypercubicLattice, hypercubic
-from .._measures import von_neumann_entropy
-from .._methods import Method
-from .._spectrum import SymplecticSpectrum, combine_spectra, symplectic_spectrum
+from ..network._lattices import HypercubicLattice, hypercubic
+from ..spectrum._measures import von_neumann_entropy
+from ._registry import Method
+from ..spectrum._symplectic import SymplecticSpectrum, combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
 
 __all__ = ["TransverseMethod", "half_chain_spectrum"]
@@ -42,7 +42,7 @@ def half_chain_spectrum(mu2, *, coupling=1.0):
     Examples
     --------
     >>> from arealaw import von_neumann_entropy
-    >>> from arealaw.reductions import half_chain_spectrum
+    >>> from arealaw.methods import half_chain_spectrum
     >>> round(von_neumann_entropy(half_chain_spectrum(1.0)), 12)
     0.055900404567
     """

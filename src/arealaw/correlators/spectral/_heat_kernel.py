@@ -15,7 +15,7 @@ import math
 import numpy as np
 import scipy.special
 
-from .._errors import ConvergenceError
+from ..._errors import ConvergenceError
 
 __all__ = ["Axis", "KernelTables", "correlator_factors", "image_combos", "lattice_axes"]
 

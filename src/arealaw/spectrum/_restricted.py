@@ -19,12 +19,12 @@ import numpy as np
 import scipy.linalg
 import scipy.sparse.linalg as spla
 
-from ._errors import ConvergenceError
+from .._errors import ConvergenceError
 from ._measures import mode_entropy
-from ._memory import require_memory
-from ._spectrum import SymplecticSpectrum, Tail, symplectic_spectrum
-from .correlators import operator_trace
-from .correlators._base import as_array, apply
+from .._numerics import require_memory
+from ._symplectic import SymplecticSpectrum, Tail, symplectic_spectrum
+from ..correlators import operator_trace
+from ..correlators._base import as_array, apply
 
 __all__ = ["restricted_spectrum"]
 
@@ -204,7 +204,7 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
     --------
     >>> import numpy as np
     >>> from arealaw import von_neumann_entropy, entropy_error_bound
-    >>> from arealaw._restricted import restricted_spectrum
+    >>> from arealaw.spectrum._restricted import restricted_spectrum
     >>> nu = np.array([1.5, 0.9, 0.6] + [0.5] * 37)
     >>> spec = restricted_spectrum(np.diag(nu), np.diag(nu), tol=1e-12)
     >>> len(spec), bool(entropy_error_bound(spec) < 1e-9)

@@ -16,8 +16,8 @@ import numpy as np
 import scipy.fft
 import scipy.sparse.linalg as spla
 
-from .._memory import require_memory
-from ._base import RegionOperators
+from ..._numerics import require_memory
+from .._base import RegionOperators
 from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
 
 __all__ = ["BoxConvolution", "box_grid_points", "box_operator_bytes", "box_operators"]
@@ -160,7 +160,7 @@ def box_operators(network, rows, *, tol):
     >>> import numpy as np
     >>> from arealaw import hypercubic, ball
     >>> from arealaw.correlators import spectral_correlators
-    >>> from arealaw.correlators._convolution import box_operators
+    >>> from arealaw.correlators.spectral._convolution import box_operators
     >>> net = hypercubic((16, 16, 16), mass=0.0)
     >>> idx = ball(net, 4).indices
     >>> ops, b = box_operators(net, idx, tol=1e-12), spectral_correlators(net, idx)

@@ -5,9 +5,9 @@ import datetime
 import html
 import math
 
-from ._fits import fit_rows
+from ..workflow._fits import fit_rows
 from ._plots import energies_figure, figure_png, mode_figure, region_figure, scaling_figure
-from ._specs import network_from_spec, region_from_spec
+from ..network._specs import network_from_spec, region_from_spec
 
 __all__ = ["fit_groups", "write_report"]
 

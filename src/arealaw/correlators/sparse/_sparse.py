@@ -32,9 +32,9 @@ import scipy.sparse as sp
 from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
-from .._errors import UnsupportedMethodError
-from .._memory import available_bytes, format_bytes, require_memory
-from ._base import Assessment, Blocks, CorrelatorBackend
+from ..._errors import UnsupportedMethodError
+from ..._numerics import available_bytes, format_bytes, require_memory
+from .._base import Assessment, Blocks, CorrelatorBackend
 from ._contour import inverse_sqrt_rule
 from ._interval import gershgorin, is_diagonal, pencil_interval
 from ._shifted import amg_shifted_cg, multishift_cg

@@ -33,7 +33,7 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     Examples
     --------
     >>> import numpy as np
-    >>> from arealaw._fits import fit_scaling
+    >>> from arealaw.workflow._fits import fit_scaling
     >>> r = np.arange(2.0, 9.0)
     >>> fig = scaling_figure(fit_scaling(r, 0.3 * r**2 + 0.1, dim=3))
     >>> len(fig.axes)
@@ -114,7 +114,7 @@ def entangled_modes(network, region, *, count=2, method="auto", tol=1e-8):
     """
     import scipy.linalg
 
-    from ._methods import choose_method
+    from ..methods._registry import choose_method
     choice = choose_method(network, [region], method, tol=tol)
     b = choice.method.blocks(network, region.indices, tol=tol)
     chol = scipy.linalg.cholesky(0.5 * (b.x + b.x.T), lower=True)

@@ -14,9 +14,9 @@ from collections import OrderedDict
 import numpy as np
 from threadpoolctl import threadpool_limits
 
-from ._entropy import entropy
-from ._regions import cut_couplings
-from ._specs import network_from_spec, region_from_spec
+from .._entropy import entropy
+from ..network._regions import cut_couplings
+from ..network._specs import network_from_spec, region_from_spec
 
 __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]
 
@@ -50,7 +50,7 @@ def compute_case(case):
 
     Examples
     --------
-    >>> from arealaw._scenario import Case
+    >>> from arealaw.workflow._scenario import Case
     >>> r = compute_case(Case({"shape": [20], "mass": 0.5}, {"box": [10], "origin": [0]},
     ...                       method="dense"))
     >>> round(r["entropy"], 6), r["dim"], r["boundary_bonds"]

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 try:  # the sparse backend's contour rule (Hale, Higham & Trefethen 2008)
-    from .correlators._contour import inverse_sqrt_rule
+    from ..correlators.sparse._contour import inverse_sqrt_rule
 except ImportError:  # pragma: no cover - a tree without the sparse backend
     inverse_sqrt_rule = None
 

@@ -23,11 +23,11 @@ import numpy as np
 import scipy.sparse as sp
 
 from .._errors import UnsupportedMethodError
-from .._measures import von_neumann_entropy
-from .._methods import Method
-from .._network import OscillatorNetwork
-from .._regions import Region
-from .._spectrum import combine_spectra, symplectic_spectrum
+from ..spectrum._measures import von_neumann_entropy
+from ._registry import Method
+from ..network._network import OscillatorNetwork
+from ..network._regions import Region
+from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
 
 __all__ = ["RadialLattice", "RadialMethod", "radial_chain", "radial_entropy", "radial_lattice",
@@ -77,7 +77,7 @@ def radial_chain(n_radial, l, *, dim=3, mass=0.0):
 
     Examples
     --------
-    >>> from arealaw.reductions import radial_chain
+    >>> from arealaw.methods import radial_chain
     >>> v = radial_chain(3, 0).toarray()
     >>> float(v[0, 0]), float(v[1, 1]), round(float(v[0, 1]), 6)
     (2.25, 2.125, -1.125)

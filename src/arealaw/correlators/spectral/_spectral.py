@@ -10,9 +10,9 @@ import math
 
 import numpy as np
 
-from .._errors import UnsupportedMethodError
-from .._memory import available_bytes, require_memory
-from ._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
+from ..._errors import UnsupportedMethodError
+from ..._numerics import available_bytes, require_memory
+from .._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
 from ._convolution import box_grid_points, box_operator_bytes, box_operators
 from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
 

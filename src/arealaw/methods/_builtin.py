@@ -1,12 +1,13 @@
 """Registers the built-in methods, in the order ``method='auto'`` breaks ties.
 
-Kept apart from ``_methods.py`` so that the methods built on its protocol (reductions, parity
+Kept apart from ``_registry.py`` so that the methods built on its protocol (reductions, parity
 sectors) import it, and nothing imports them back.
 """
 
-from ._methods import BlockMethod, register_method
+from ._registry import BlockMethod, register_method
 from ._reflections import ReflectionBlockMethod
-from .reductions import RadialMethod, TransverseMethod
+from ._radial import RadialMethod
+from ._transverse import TransverseMethod
 
 __all__ = []
 

@@ -10,9 +10,9 @@ The sector bases are orthonormal ±1/√|orbit| vectors, so block errors carry o
 import numpy as np
 import scipy.sparse as sp
 
-from ._methods import BlockMethod, dense_spectrum_seconds
-from ._spectrum import combine_spectra, symplectic_spectrum
-from .correlators import Assessment
+from ._registry import BlockMethod, dense_spectrum_seconds
+from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
+from ..correlators import Assessment
 
 __all__ = ["ReflectionBlockMethod", "reflection_sectors"]
 

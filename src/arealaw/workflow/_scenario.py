@@ -2,7 +2,7 @@
 
 A scenario names its lattices, the region families to sweep on them, optional region pairs for
 mutual information, and the numerics.  Lattice and region tables use exactly the keys of
-:func:`arealaw._specs.network_from_spec` / ``region_from_spec`` (the keys of ``arealaw entropy``).
+:func:`arealaw.network._specs.network_from_spec` / ``region_from_spec`` (the keys of ``arealaw entropy``).
 Any lattice or region value may be a *sweep table* instead of a value:
 ``{from = 2, to = 6, step = 1}`` (inclusive) or ``{values = [0.1, 0.2]}``; families expand
 into the Cartesian product of their sweeps.  For ``box`` a swept number n means an n×…×n box.
@@ -40,9 +40,9 @@ from pathlib import Path
 
 import numpy as np
 
-from ._measures import normalize_order, order_label
-from ._methods import method_names
-from ._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, network_from_spec, \
+from ..spectrum._measures import normalize_order, order_label
+from ..methods._registry import method_names
+from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, network_from_spec, \
     region_from_spec
 
 if sys.version_info >= (3, 11):
@@ -61,7 +61,7 @@ MAX_CASES = 100000
 
 
 def _version():
-    from . import __version__
+    from .. import __version__
     return __version__
 
 

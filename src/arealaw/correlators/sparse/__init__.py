@@ -1,0 +1,5 @@
+"""Correlators of any sparse network: contour quadrature of V^(-1/2) by shifted solves."""
+
+from ._sparse import IllConditionedWarning, SparseBackend
+
+__all__ = sorted(["IllConditionedWarning", "SparseBackend"])

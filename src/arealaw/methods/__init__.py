@@ -1,0 +1,17 @@
+"""Methods: the protocol, the registry and automatic choice, and the built-in methods.
+
+Block methods read X_A, P_A from a correlator backend; mirror-symmetric regions split into
+parity sectors; symmetry reductions (balls by partial waves, half-spaces and slabs by
+transverse momenta) split the problem into independent 1-D chains and join their spectra with
+:func:`arealaw.combine_spectra`.
+"""
+
+from ._radial import (RadialLattice, RadialMethod, radial_chain, radial_entropy, radial_lattice,
+                      shells)
+from ._registry import BlockMethod, Method, choose_method, method_names, register_method
+from ._transverse import TransverseMethod, half_chain_spectrum
+
+__all__ = sorted([
+    "BlockMethod", "Method", "choose_method", "method_names", "register_method", "RadialLattice", "RadialMethod", "radial_chain", "radial_entropy", "radial_lattice",
+    "TransverseMethod", "half_chain_spectrum", "shells",
+])
