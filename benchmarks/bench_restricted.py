@@ -71,7 +71,7 @@ def run_restricted(backend, net, region):
     ops = backend.operators(net, region.indices, tol=1e-12)
     x, p = CountingOperator(ops.x), CountingOperator(ops.p)
     t1 = time.perf_counter()
-    spec = restricted_spectrum(x, p, tol=TOL, trace=ops.trace, x_error=ops.x_error,
+    spec = restricted_spectrum(x, p, entropy_tol=TOL, trace=ops.trace, x_error=ops.x_error,
                                p_error=ops.p_error)
     t2 = time.perf_counter()
     return spec, x.vectors + p.vectors, (x.seconds + p.seconds, t2 - t1, t1 - t0)
@@ -92,13 +92,14 @@ class TimeRestrictedBall:
     def time_restricted_fft_operators(self, radius):
         o = self.fft
         with one_blas_thread():
-            restricted_spectrum(o.x, o.p, tol=TOL, trace=o.trace, x_error=o.x_error,
+            restricted_spectrum(o.x, o.p, entropy_tol=TOL, trace=o.trace, x_error=o.x_error,
                                 p_error=o.p_error)
 
     def time_restricted_dense_blocks(self, radius):
         b = self.blocks
         with one_blas_thread():
-            restricted_spectrum(b.x, b.p, tol=TOL, x_error=b.x_error, p_error=b.p_error)
+            restricted_spectrum(b.x, b.p, entropy_tol=TOL, x_error=b.x_error,
+                                p_error=b.p_error)
 
     def time_dense_eigenproblem(self, radius):
         b = self.blocks

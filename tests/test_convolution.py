@@ -87,8 +87,8 @@ def test_trace_with_orbit_weights_equals_full_trace():
 def test_restricted_spectrum_from_box_operators_matches_dense(name):
     net, idx = _case(name)
     ops = FFT.operators(net, idx, tol=1e-12)
-    spec = restricted_spectrum(ops.x, ops.p, tol=1e-10, trace=ops.trace, x_error=ops.x_error,
-                               p_error=ops.p_error)
+    spec = restricted_spectrum(ops.x, ops.p, entropy_tol=1e-10, trace=ops.trace,
+                               x_error=ops.x_error, p_error=ops.p_error)
     d = get_backend("dense").blocks(net, idx)
     ref = symplectic_spectrum(d.x, d.p, x_error=d.x_error, p_error=d.p_error)
     diff = abs(von_neumann_entropy(spec) - von_neumann_entropy(ref))

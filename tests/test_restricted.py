@@ -54,7 +54,7 @@ def test_matches_dense_within_bound(shape, mass, kind, size, tol):
     # reference: the dense Cholesky-form spectrum of the same blocks (computed)
     _, _, b = _region_blocks(shape, mass, kind, size)
     ref = symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error)
-    spec = restricted_spectrum(b.x, b.p, tol=tol, x_error=b.x_error, p_error=b.p_error)
+    spec = restricted_spectrum(b.x, b.p, entropy_tol=tol, x_error=b.x_error, p_error=b.p_error)
     assert spec.info["restricted"]
     assert spec.tail is not None and spec.tail.count == b.x.shape[0] - len(spec)
     for order in ORDERS:
@@ -73,7 +73,7 @@ def test_kept_modes_are_the_largest_dense_modes():
     # dense eigenvalues of the same blocks (computed)
     _, _, b = _region_blocks((32, 32), 0.0, "box", 16)
     ref = symplectic_spectrum(b.x, b.p)
-    spec = restricted_spectrum(b.x, b.p, tol=1e-8, threshold=1e-8)
+    spec = restricted_spectrum(b.x, b.p, entropy_tol=1e-8, threshold=1e-8)
     k = len(spec)
     assert abs(k - np.count_nonzero(ref.t >= 1e-8)) <= 2
     np.testing.assert_allclose(spec.t, ref.t[:k], rtol=0, atol=1e-10)
@@ -83,7 +83,7 @@ def test_dense_fallback_when_every_mode_matters():
     # a tiny massive region: the Krylov space would span it, so the dense form is used
     _, _, b = _region_blocks((12, 12), 0.3, "box", 5)
     ref = symplectic_spectrum(b.x, b.p)
-    spec = restricted_spectrum(b.x, b.p, tol=1e-12)
+    spec = restricted_spectrum(b.x, b.p, entropy_tol=1e-12)
     assert not spec.info["restricted"] and spec.tail is None
     np.testing.assert_allclose(spec.t, ref.t, rtol=0, atol=1e-14)
 
@@ -94,8 +94,8 @@ def test_operator_path_equals_array_path():
                              dtype=float)
     po = spla.LinearOperator(b.p.shape, matvec=lambda v: b.p @ v, matmat=lambda v: b.p @ v,
                              dtype=float)
-    s_arr = restricted_spectrum(b.x, b.p, tol=1e-10)
-    s_op = restricted_spectrum(xo, po, tol=1e-10)
+    s_arr = restricted_spectrum(b.x, b.p, entropy_tol=1e-10)
+    s_op = restricted_spectrum(xo, po, entropy_tol=1e-10)
     assert len(s_arr) == len(s_op)
     np.testing.assert_allclose(s_op.t, s_arr.t, rtol=0, atol=1e-12)
     tr_arr, err_arr = operator_trace(b.x, b.p)
@@ -128,7 +128,7 @@ def test_tail_bound_is_honest_on_synthetic_spectra(name, tol):
     # known symplectic spectrum (common practice, no source): the bound must cover the truth
     nu = SYNTHETIC[name]
     x, p = _synthetic_blocks(nu, seed=7)
-    spec = restricted_spectrum(x, p, tol=tol, block_size=8)
+    spec = restricted_spectrum(x, p, entropy_tol=tol, block_size=8)
     for order in ORDERS:
         err = abs(renyi_entropy(spec, order) - _exact(nu, order))
         assert err <= entropy_error_bound(spec, order) + 1e-11 * nu.size
@@ -138,7 +138,7 @@ def test_early_stop_bound_covers_unconverged_modes():
     # a loose tol stops the iteration early, while most kept modes are still unconverged
     nu = SYNTHETIC["exponential"]
     x, p = _synthetic_blocks(nu, seed=3)
-    spec = restricted_spectrum(x, p, tol=0.5, block_size=4)
+    spec = restricted_spectrum(x, p, entropy_tol=0.5, block_size=4)
     assert spec.info["krylov_dim"] < nu.size
     err = _exact(nu, 1.0) - von_neumann_entropy(spec)
     assert 0 <= err + 1e-12 and err <= entropy_error_bound(spec)
@@ -148,10 +148,11 @@ def test_convergence_error_names_the_bound_reached():
     nu = SYNTHETIC["exponential"]
     x, p = _synthetic_blocks(nu, seed=1)
     with pytest.raises(ConvergenceError, match="tail bound"):
-        restricted_spectrum(x, p, tol=1e-10, block_size=4, maxiter=3)
+        restricted_spectrum(x, p, entropy_tol=1e-10, block_size=4, maxiter=3)
 
 
-@pytest.mark.parametrize("kwargs,match", [({"tol": 0.0}, "tol"), ({"tol": 2.0}, "tol"),
+@pytest.mark.parametrize("kwargs,match", [({"entropy_tol": 0.0}, "entropy_tol"),
+                                          ({"entropy_tol": 2.0}, "entropy_tol"),
                                           ({"threshold": -1.0}, "threshold"),
                                           ({"maxiter": 0}, "maxiter")],
                          ids=["tol-zero", "tol-large", "threshold-negative", "maxiter-zero"])
@@ -180,7 +181,7 @@ def test_modes_kept_follow_the_boundary_not_the_volume(tol):
     net = arealaw.hypercubic((48, 48), mass=0.0)
     reg = arealaw.box(net, 30)
     b = get_backend("dense").blocks(net, reg.indices)
-    spec = restricted_spectrum(b.x, b.p, tol=tol)
+    spec = restricted_spectrum(b.x, b.p, entropy_tol=tol)
     area = _boundary_sites(net, reg)
     assert 0.5 * area <= len(spec) <= 4 * area
     assert len(spec) < 0.4 * reg.size

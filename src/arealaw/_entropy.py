@@ -7,14 +7,13 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.linalg
 
+from ._numerics import DEFAULT_TOL, check_tol
 from .spectrum._measures import (entanglement_energies, entropy_error_bound, mutual_information,
                         normalize_order, order_label, renyi_entropy, von_neumann_entropy)
 from .methods._registry import choose_method
 from .network._regions import Region, union
 
 __all__ = ["EntropyResult", "entropy", "logarithmic_negativity"]
-
-DEFAULT_TOL = 1e-10
 
 
 @dataclass
@@ -126,8 +125,7 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     t0 = time.perf_counter()
     orders = [normalize_order(n) for n in np.atleast_1d(np.asarray(renyi, dtype=object))] \
         if np.size(renyi) else []
-    if not (isinstance(tol, (int, float)) and 0 < tol < 1):
-        raise ValueError(f"tol={tol!r} must be a number in (0, 1), e.g. 1e-10")
+    tol = check_tol(tol)
     if isinstance(energies, bool) or not isinstance(energies, (int, np.integer)) or energies < 0:
         raise ValueError(f"energies={energies!r} must be a whole number >= 0")
     _check_region(network, region, "region")

@@ -6,6 +6,7 @@ import math
 import sys
 
 from .._errors import ConvergenceError, InsufficientMemoryError
+from .._numerics import is_inf_word
 
 __all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "positive_int",
            "print_json"]
@@ -46,7 +47,7 @@ def positive_int(text):
 
 def parse_extent(text):
     """An axis length: positive integer or 'inf'."""
-    if text.strip().lower() in ("inf", "infinite", "infinity"):
+    if is_inf_word(text):
         return math.inf
     try:
         return positive_int(text)

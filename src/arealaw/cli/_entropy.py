@@ -2,7 +2,8 @@
 
 import math
 
-from .._entropy import DEFAULT_TOL, entropy, logarithmic_negativity
+from .._entropy import entropy, logarithmic_negativity
+from .._numerics import DEFAULT_TOL
 from ..methods._registry import method_names
 from ..methods import radial_lattice, shells
 from ..network._specs import network_from_spec, region_from_spec

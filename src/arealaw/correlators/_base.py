@@ -6,10 +6,10 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse.linalg as spla
 
+from .._numerics import EPS
+
 __all__ = ["Assessment", "Blocks", "CorrelatorBackend", "RegionOperators", "apply", "as_array",
            "operator_trace", "trace_rounding"]
-
-_EPS = np.finfo(float).eps
 
 
 def as_array(op):
@@ -60,7 +60,7 @@ def operator_trace(x, p, *, block_size=256):
 def trace_rounding(n, abs_total):
     """Rounding bound of a trace summed as n row sums of n terms (``abs_total`` = Σ|terms|)."""
     # pairwise summation: error ≤ (log2 terms + 2)·ε·Σ|terms| for each of the two levels
-    return 2.0 * (math.log2(max(n, 2)) + 3.0) * _EPS * abs_total
+    return 2.0 * (math.log2(max(n, 2)) + 3.0) * EPS * abs_total
 
 
 @dataclass

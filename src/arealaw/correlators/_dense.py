@@ -6,12 +6,10 @@ import numpy as np
 import scipy.linalg
 
 from .._errors import UnsupportedMethodError
-from .._numerics import available_bytes, format_bytes, require_memory
+from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 
 __all__ = ["DenseBackend", "dense_correlators"]
-
-_EPS = np.finfo(float).eps
 
 
 def dense_memory_bytes(n):
@@ -60,7 +58,7 @@ def dense_correlators(network):
         k = 0.5 * (k + k.T)
     lam, u = scipy.linalg.eigh(k)
     scale = max(abs(lam[0]), abs(lam[-1]))
-    if lam[0] <= 64 * n * _EPS * scale:
+    if lam[0] <= 64 * n * EPS * scale:
         raise ValueError(
             f"potential V is not positive definite (smallest eigenvalue of M^-1/2 V M^-1/2 is "
             f"{lam[0]:.3g}); a zero mode has no normalisable ground state — add a mass or a "
@@ -71,12 +69,12 @@ def dense_correlators(network):
     # A posteriori: each computed λ_i has an exact eigenvalue within its residual ‖K u_i − λ_i u_i‖
     # (plus the loss of orthogonality); X and P errors follow from 1/√λ and √λ mode by mode.
     resid = np.linalg.norm(k @ u - u * lam, axis=0)
-    dlam = resid + np.sqrt(n) * _EPS * scale * (1 + np.abs(np.diag(u.T @ u) - 1).max() / _EPS)
+    dlam = resid + np.sqrt(n) * EPS * scale * (1 + np.abs(np.diag(u.T @ u) - 1).max() / EPS)
     if np.any(dlam >= lam / 2):
         raise ValueError(f"potential V is too ill-conditioned for the dense method (condition "
                          f"number {scale / lam[0]:.3g}); increase the mass")
-    x_err = float(np.max(0.5 * (1 / np.sqrt(lam - dlam) - 1 / omega))) + n * _EPS / omega[0]
-    p_err = float(np.max(0.5 * (np.sqrt(lam + dlam) - omega))) + n * _EPS * omega[-1]
+    x_err = float(np.max(0.5 * (1 / np.sqrt(lam - dlam) - 1 / omega))) + n * EPS / omega[0]
+    p_err = float(np.max(0.5 * (np.sqrt(lam + dlam) - omega))) + n * EPS * omega[-1]
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -101,7 +99,7 @@ class DenseBackend(CorrelatorBackend):
             return Assessment(False, "the dense method needs a finite network")
         n = network.n_sites
         need = dense_memory_bytes(n)
-        if need > 0.8 * available_bytes():
+        if not fits_in_memory(need):
             return Assessment(False, f"needs {format_bytes(need)} for N = {n}", need)
         return Assessment(True, f"exact eigendecomposition of all {n} sites", need,
                           seconds=3e-10 * float(n) ** 3)

@@ -23,6 +23,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from .._errors import UnsupportedMethodError
+from .._numerics import DEFAULT_TOL
 from ..spectrum._measures import von_neumann_entropy
 from ._registry import Method
 from ..network._network import OscillatorNetwork
@@ -311,7 +312,7 @@ class RadialMethod(Method):
 
 
 def radial_entropy(n_radial, n_shells, *, dim=3, mass=0.0, renyi=(), lmax=None,
-                   rtol=DEFAULT_RTOL, tol=1e-10, n_jobs=None):
+                   rtol=DEFAULT_RTOL, tol=DEFAULT_TOL, n_jobs=None):
     """Entanglement entropy of a ball of ``n_shells`` radial sites (R = n + ½) on the radial lattice.
 
     Parameters

@@ -10,7 +10,7 @@ for an :class:`~arealaw.correlators.Assessment` and takes the cheapest that can 
 import numpy as np
 
 from .._errors import UnsupportedMethodError
-from .._numerics import available_bytes, format_bytes, require_memory
+from .._numerics import fits_in_memory, format_bytes, require_memory
 from ..network._regions import cut_couplings
 from ..spectrum._restricted import restricted_spectrum
 from ..spectrum._symplectic import symplectic_spectrum
@@ -79,8 +79,10 @@ def restricted_plan(network, indices, tol):
 def restricted_block_spectrum(backend, network, rows, tol):
     """Restricted spectrum from a backend's operators X_A, P_A (the BlockMethod hook)."""
     ops = backend.operators(network, rows, tol=tol)
-    return restricted_spectrum(ops.x, ops.p, tol=tol, x_error=ops.x_error, p_error=ops.p_error,
-                               trace=ops.trace, info=ops.info)
+    # entropy() has one accuracy knob: the correlator target ``tol`` doubles as the entropy
+    # accuracy asked of the Lanczos tail (the block errors enter the bound separately)
+    return restricted_spectrum(ops.x, ops.p, entropy_tol=tol, x_error=ops.x_error,
+                               p_error=ops.p_error, trace=ops.trace, info=ops.info)
 
 
 class Method:
@@ -124,7 +126,7 @@ class BlockMethod(Method):
             return a
         if n_max > DENSE_SPECTRUM_LIMIT and self.restricted_solver is None:
             need = _dense_spectrum_bytes(n_max)
-            if need > 0.8 * available_bytes():
+            if not fits_in_memory(need):
                 return Assessment(False, f"a dense eigenproblem of {n_max} sites needs "
                                          f"{format_bytes(need)}", need)
         big = max(regions, key=lambda r: r.size)

@@ -20,6 +20,7 @@ import math
 import numpy as np
 import scipy.special
 
+from .._numerics import EPS
 from .._errors import ConvergenceError, UnsupportedMethodError
 from ..network._lattices import HypercubicLattice, hypercubic
 from ..spectrum._measures import von_neumann_entropy
@@ -29,7 +30,6 @@ from ..correlators import Assessment, dense_correlators
 
 __all__ = ["TransverseMethod", "half_chain_spectrum"]
 
-_EPS = np.finfo(float).eps
 #: Relative accuracy aimed at for Brillouin-zone integrals.
 DEFAULT_RTOL = 1e-8
 #: Entanglement energies above this are dropped (mode entropy < 1e-16).
@@ -59,7 +59,7 @@ def half_chain_spectrum(mu2, *, coupling=1.0):
     e = (2 * j + 1) * eps
     e = e[e < _E_MAX]
     t = 0.25 / np.sinh(e / 2) ** 2  # ν = ½ coth(e/2) ⇒ t = ν² − ¼
-    return SymplecticSpectrum(t=t, t_error=16 * _EPS * t, weights=np.ones_like(t),
+    return SymplecticSpectrum(t=t, t_error=16 * EPS * t, weights=np.ones_like(t),
                               info={"epsilon": eps})
 
 

@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
-from .._numerics import available_bytes
+from .._numerics import fits_in_memory, is_inf_word
 from ._network import OscillatorNetwork
 
 __all__ = ["BOUNDARIES", "HypercubicLattice", "hypercubic"]
@@ -76,7 +76,7 @@ def _per_axis(value, d, name, cast):
 
 
 def _parse_extent(n):
-    if isinstance(n, str) and n.strip().lower() in ("inf", "infinite", "infinity"):
+    if is_inf_word(n):
         return math.inf
     if isinstance(n, float) and math.isinf(n):
         return math.inf
@@ -180,7 +180,7 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
 
 def _checked_matrices(matrices, n_sites, d):
     # about (2d + 1) stored entries per site, 8-byte values and indices, plus assembly temporaries
-    if 4 * (2 * d + 1) * 16.0 * n_sites > 0.8 * available_bytes():
+    if not fits_in_memory(4 * (2 * d + 1) * 16.0 * n_sites):
         return None, None  # V cannot be formed here; like an infinite lattice's, it stays None
     return matrices()
 

@@ -12,6 +12,7 @@ import math
 
 import numpy as np
 
+from .._numerics import is_inf_word
 
 __all__ = [
     "entanglement_energies", "entropy_error_bound", "mode_entropy", "mutual_information",
@@ -21,12 +22,11 @@ __all__ = [
 
 def normalize_order(order):
     """Validate a Rényi order: a number > 0 or ``inf`` (strings 'inf'/'infinity' accepted)."""
+    if is_inf_word(order):
+        return math.inf
     if isinstance(order, str):
-        text = order.strip().lower()
-        if text in ("inf", "infinity", "∞"):
-            return math.inf
         try:
-            order = float(text)
+            order = float(order.strip())
         except ValueError:
             raise ValueError(f"Rényi order {order!r} is not a number > 0 or 'inf'") from None
     try:

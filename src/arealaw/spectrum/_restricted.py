@@ -21,14 +21,12 @@ import scipy.sparse.linalg as spla
 
 from .._errors import ConvergenceError
 from ._measures import mode_entropy
-from .._numerics import require_memory
+from .._numerics import DEFAULT_ENTROPY_TOL, EPS, check_tol, require_memory
 from ._symplectic import SymplecticSpectrum, Tail, symplectic_spectrum
 from ..correlators import operator_trace
 from ..correlators._base import as_array, apply
 
 __all__ = ["restricted_spectrum"]
-
-_EPS = np.finfo(float).eps
 
 
 def _norm_bound(op, arr, n, rng):
@@ -99,7 +97,7 @@ def _orthonormalize_block(z, basis, pbasis, scale, rng, p_op, pa):
     b = z.shape[1]
     znorm = float(np.linalg.norm(z, axis=0).max(initial=0.0))
     h = _project_out(z, basis, pbasis)
-    q, pq, r1, keep, spread = _normalize_block(z, 1e3 * _EPS * max(scale, znorm), p_op, pa)
+    q, pq, r1, keep, spread = _normalize_block(z, 1e3 * EPS * max(scale, znorm), p_op, pa)
     dropped = int(b - keep.sum())
     if dropped:
         cols = np.flatnonzero(~keep)
@@ -150,23 +148,26 @@ def _band_ritz(diag_blocks, sub_blocks, b):
     return lam[::-1]
 
 
-def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=0.0,
-                        p_error=0.0, block_size=None, maxiter=None, seed=0, info=None):
+def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None, trace=None,
+                        x_error=0.0, p_error=0.0, block_size=None, maxiter=None, seed=0,
+                        info=None):
     """Symplectic modes of a region with t = ν² − ¼ above a threshold, from X_A, P_A as operators.
 
     Parameters
     ----------
     x, p : LinearOperator or ndarray, shape (n, n)
         The region blocks X_A, P_A (symmetric positive definite); only products are used.
-    tol : float
-        Requested accuracy of the entropy.  The iteration stops once the certified bound is
+    entropy_tol : float
+        Requested accuracy of the entropy (absolute; not the accuracy of X_A, P_A, which
+        their producer controls and reports through ``x_error``, ``p_error``).  The iteration stops once the certified bound is
         below it, or once the trace deficit is negligible beside the floor that rounding and
         the block errors already set (more vectors could not lower the bound), or when the
         deficit stalls with every mode above the threshold accounted for.  A deficit that
         stalls while it still shows missed modes restarts with a doubled block.
     threshold : float, optional
-        Modes with t above it are kept (default ``tol / 100``: the omitted tail's bound,
-        about (its Σt)·(1 + ln((n − k)/Σt)), is then near ``tol`` unless rounding dominates).
+        Modes with t above it are kept (default ``entropy_tol / 100``: the omitted tail's bound,
+        about (its Σt)·(1 + ln((n − k)/Σt)), is then near ``entropy_tol`` unless rounding
+        dominates).
     trace : (float, float), optional
         (tr(X_A P_A) − n/4, bound on its error) if the caller knows it cheaply; otherwise it is
         formed by :func:`operator_trace`.
@@ -206,7 +207,7 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
     >>> from arealaw import von_neumann_entropy, entropy_error_bound
     >>> from arealaw.spectrum._restricted import restricted_spectrum
     >>> nu = np.array([1.5, 0.9, 0.6] + [0.5] * 37)
-    >>> spec = restricted_spectrum(np.diag(nu), np.diag(nu), tol=1e-12)
+    >>> spec = restricted_spectrum(np.diag(nu), np.diag(nu), entropy_tol=1e-12)
     >>> len(spec), bool(entropy_error_bound(spec) < 1e-9)
     (3, True)
     """
@@ -215,10 +216,9 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
         raise ValueError(f"X_A {x.shape} and P_A {p.shape} must be square operators of one shape")
     if n == 0:
         raise ValueError("the region is empty; a symplectic spectrum needs at least one site")
-    if not (isinstance(tol, (int, float)) and 0 < tol < 1):
-        raise ValueError(f"tol={tol!r} must be a number in (0, 1), e.g. 1e-10")
+    tol = check_tol(entropy_tol, "entropy_tol")
     # modes below τ = tol/100 carry a tail whose concavity bound is about tol (see module doc)
-    tau = float(max(tol / 100, 64 * _EPS) if threshold is None else threshold)
+    tau = float(max(tol / 100, 64 * EPS) if threshold is None else threshold)
     if not tau > 0:
         raise ValueError(f"threshold={threshold!r} must be > 0")
     xa, pa = as_array(x), as_array(p)
@@ -256,7 +256,7 @@ def restricted_spectrum(x, p, *, tol=1e-10, threshold=None, trace=None, x_error=
                status == "inconsistent" else f"{max_blocks} Lanczos blocks of {b} were not enough")
         raise ConvergenceError(
             f"restricted spectrum did not converge ({why}): tail bound on the entropy reached "
-            f"{got} (requested {tol:g}); raise maxiter or tol")
+            f"{got} (requested {tol:g}); raise maxiter or entropy_tol")
     k = result["k"]
     t_kept = np.asarray(result["t"])
     t_err = np.full(k, result["rho"] + block_err)
@@ -381,7 +381,7 @@ def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
     k_tau = min(int(np.count_nonzero(theta >= tau)), n)
     # rounding of the Ritz values: ‖T − exact compression‖ from orthogonality loss and the
     # dropped off-band coefficients
-    rho = 16.0 * math.sqrt(m) * _EPS * scale + math.sqrt(m) * offband
+    rho = 16.0 * math.sqrt(m) * EPS * scale + math.sqrt(m) * offband
     ks = np.arange(k_tau + 1)
     deficit = trace_t - np.concatenate([[0.0], np.cumsum(theta[:k_tau])])
     count = n - ks

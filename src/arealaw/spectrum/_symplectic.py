@@ -10,9 +10,10 @@ import numpy as np
 import scipy.linalg
 import scipy.linalg.blas
 
+from .._numerics import EPS
+
 __all__ = ["SymplecticSpectrum", "Tail", "combine_spectra", "symplectic_spectrum"]
 
-_EPS = np.finfo(float).eps
 #: Regions up to this size get a posteriori (residual) eigenvalue bounds; larger ones a
 #: rounding model, since eigenvectors cost about three times the eigenvalues.
 RESIDUAL_BOUND_LIMIT = 2000
@@ -137,11 +138,11 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
         lam, vec = scipy.linalg.eigh(w)
         resid = np.linalg.norm(w @ vec - vec * lam, axis=0)
         wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
-        delta = resid + 4 * np.sqrt(n) * _EPS * wnorm
+        delta = resid + 4 * np.sqrt(n) * EPS * wnorm
     else:
         lam = scipy.linalg.eigvalsh(w, driver="evd")
         wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
-        delta = 8 * np.sqrt(n) * _EPS * wnorm * np.ones(n)
+        delta = 8 * np.sqrt(n) * EPS * wnorm * np.ones(n)
     if x_error or p_error:
         xn = _psd_norm(xs) if n <= 4000 else np.abs(xs).sum(axis=1).max()
         pn = _psd_norm(ps) if n <= 4000 else np.abs(ps).sum(axis=1).max()

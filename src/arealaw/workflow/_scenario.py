@@ -40,6 +40,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .._numerics import DEFAULT_TOL, check_tol
 from ..spectrum._measures import normalize_order, order_label
 from ..methods._registry import method_names
 from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, network_from_spec, \
@@ -80,7 +81,7 @@ class Case:
     renyi: list = field(default_factory=list)
     energies: int = 0
     method: str = "auto"
-    tol: float = 1e-10
+    tol: float = DEFAULT_TOL
     family: str = ""
     label: str = ""
     x: float = None
@@ -217,8 +218,8 @@ def parse_scenario(text, *, source=""):
     for key, val in (("title", title), ("out", out)):
         if not isinstance(val, str):
             raise w.error(f"{key} = {val!r} must be a string", key)
-    defaults = _numerics(data.get("numerics", {}), {"method": "auto", "tol": 1e-10, "renyi": [],
-                                                    "energies": 0}, w, "numerics")
+    defaults = _numerics(data.get("numerics", {}), {"method": "auto", "tol": DEFAULT_TOL,
+                                                    "renyi": [], "energies": 0}, w, "numerics")
     lattices = data.get("lattices")
     if not isinstance(lattices, dict) or not lattices:
         raise w.error("no lattice given: add a table [lattices.NAME] with shape = [...] "
@@ -267,10 +268,11 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
         if key == "method" and val not in method_names():
             raise w.error(f"method = {val!r} is not known; allowed: "
                           f"{', '.join(method_names())}", key, header, nth)
-        if key == "tol" and not (isinstance(val, (int, float)) and not isinstance(val, bool)
-                                 and 0 < val < 1):
-            raise w.error(f"tol = {val!r} must be a number in (0, 1), e.g. 1e-10", key, header,
-                          nth)
+        if key == "tol":
+            try:
+                check_tol(val)
+            except ValueError as exc:
+                raise w.error(str(exc).replace("tol=", "tol = ", 1), key, header, nth) from None
         if key == "energies" and (isinstance(val, bool) or not isinstance(val, int) or val < 0):
             raise w.error(f"energies = {val!r} must be a whole number >= 0", key, header, nth)
         if key == "renyi":

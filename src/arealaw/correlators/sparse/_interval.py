@@ -4,6 +4,8 @@ import math
 import warnings
 
 import numpy as np
+
+from ..._numerics import EPS
 import pyamg
 import scipy.linalg
 import scipy.sparse as sp
@@ -71,9 +73,9 @@ def pencil_interval(v, m=None, *, seed=0):
     if n <= DENSE_INTERVAL_LIMIT:
         lam = scipy.linalg.eigh(v.toarray(), None if m is None else m.toarray(), eigvals_only=True)
         scale = max(abs(lam[0]), abs(lam[-1]))
-        if lam[0] <= 64 * n * np.finfo(float).eps * scale:
+        if lam[0] <= 64 * n * EPS * scale:
             raise _not_pd(lam[0])
-        pad = 1e-8 + 64 * n * np.finfo(float).eps * scale / lam[0]
+        pad = 1e-8 + 64 * n * EPS * scale / lam[0]
         return (float(lam[0] * (1 - pad)), float(lam[-1] * (1 + pad)),
                 {"method": "dense", "lambda_min": float(lam[0]), "lambda_max": float(lam[-1])})
     rng = np.random.default_rng(seed)

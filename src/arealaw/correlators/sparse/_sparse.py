@@ -33,7 +33,7 @@ from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
 from ..._errors import UnsupportedMethodError
-from ..._numerics import available_bytes, format_bytes, require_memory
+from ..._numerics import EPS, available_bytes, fits_in_memory, format_bytes, require_memory
 from .._base import Assessment, Blocks, CorrelatorBackend
 from ._contour import inverse_sqrt_rule
 from ._interval import gershgorin, is_diagonal, pencil_interval
@@ -41,13 +41,10 @@ from ._shifted import amg_shifted_cg, multishift_cg
 
 __all__ = ["IllConditionedWarning", "SparseBackend"]
 
-_EPS = np.finfo(float).eps
 #: Condition numbers above this trigger :class:`IllConditionedWarning`.
 ILL_CONDITIONED = 1e8
 #: Multishift CG costs ~½√κ ln(2/ε) matrix products per column, AMG-CG ~ 8 ln(2/ε) per shift.
 _AMG_WORK_PER_SHIFT = 8.0
-#: Above this many sites, assess() of a uniform lattice does not assemble V.
-DEFER_LIMIT = 2**22
 #: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
 _BYTES_PER_ENTRY = 48.0
 
@@ -110,11 +107,10 @@ class SparseBackend(CorrelatorBackend):
                                      "for an infinite lattice); use method='spectral'")
         n = network.n_sites
         d = network.ndim or 3
-        lat = network.lattice
-        if lat is not None and lat.is_uniform and n > DEFER_LIMIT:
+        if network.is_deferred:
             # Huge uniform lattices assemble V lazily: estimate from the description instead.
             nnz = float(n) * (2 * d + 1)
-            kappa = _uniform_kappa(lat)
+            kappa = _uniform_kappa(network.lattice)
             if not math.isfinite(kappa):
                 return Assessment(False, "the lattice has a zero mode (no mass, no Dirichlet "
                                          "wall)")
@@ -130,7 +126,7 @@ class SparseBackend(CorrelatorBackend):
         seconds = 3e-9 * nnz * n_rhs * iters + 3e-10 * n_rows ** 3 * 10 + 1e-6 * nnz
         bs, jobs = self._block_plan(n, max(int(n_rhs), 1), nnz)
         nbytes = _BYTES_PER_ENTRY * n * bs * jobs + 36.0 * nnz * (jobs + 1) + 8.0 * 3 * n_rows ** 2
-        if nbytes > 0.8 * available_bytes():
+        if not fits_in_memory(nbytes):
             return Assessment(False, f"needs about {format_bytes(nbytes)} for {n} sites", nbytes)
         return Assessment(True, f"contour quadrature + shifted CG on {n} sites "
                                 f"(κ ≈ {kappa:.2g})", nbytes, seconds)
@@ -297,9 +293,9 @@ class SparseBackend(CorrelatorBackend):
             # ‖δZ‖ ≤ ‖R‖_F/λ_H; δS = H_JR δZ_R; Ỹ − Y = Ỹ δS Y with ‖Y‖ ≤ 1/λ_H.
             lh = lam_h[j]
             res_f = float(np.sqrt(np.sum(resid[j] ** 2)))
-            e_z = res_f / lh + 4 * math.sqrt(max(info["iterations"], 1)) * _EPS * res_f / lh
+            e_z = res_f / lh + 4 * math.sqrt(max(info["iterations"], 1)) * EPS * res_f / lh
             h_norm = _norm2_bound(h_jr)
-            e_s = h_norm * e_z + 8 * c * _EPS * (float(np.abs(s).sum(axis=1).max()))
+            e_s = h_norm * e_z + 8 * c * EPS * (float(np.abs(s).sum(axis=1).max()))
             # Crude but always valid: ‖Ỹ − Y‖ ≤ ‖Ỹ‖ + ‖Y‖ (‖Ỹ‖ ≤ its largest absolute row sum).
             e_y = float(np.abs(yj).sum(axis=1).max()) + 1 / lh
             if e_s < 0.5 * lh:
@@ -358,7 +354,7 @@ class SparseBackend(CorrelatorBackend):
         p = p_s * sq[:, None] * sq[None, :]
         x_err = (err["x_cc"] + 0.5 * rule.abs_error) / float(d[union].min())
         p_err = (err["sigma"] + 0.5 * rule.x_abs_error
-                 + 8 * c * _EPS * err["w_sum"]) * float(d[union].max())
+                 + 8 * c * EPS * err["w_sum"]) * float(d[union].max())
         return x, p, x_err, p_err
 
     def _assemble_general(self, network, prep, union, core, y_cc, y_sig, err, rule):
@@ -372,7 +368,7 @@ class SparseBackend(CorrelatorBackend):
         m_norm = _norm2_bound(m_uc)
         x_err = err["x_cc"] + 0.5 * rule.abs_error / prep["m_lo"]
         p_err = (m_norm ** 2 * err["sigma"] + 0.5 * rule.x_abs_error * prep["m_hi"]
-                 + 8 * core.size * _EPS * err["w_sum"] * max(1.0, m_norm ** 2))
+                 + 8 * core.size * EPS * err["w_sum"] * max(1.0, m_norm ** 2))
         return x, p, x_err, p_err
 
 

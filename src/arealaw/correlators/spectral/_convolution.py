@@ -16,13 +16,12 @@ import numpy as np
 import scipy.fft
 import scipy.sparse.linalg as spla
 
-from ..._numerics import require_memory
+from ..._numerics import EPS, require_memory
 from .._base import RegionOperators
 from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
 
 __all__ = ["BoxConvolution", "box_grid_points", "box_operator_bytes", "box_operators"]
 
-_EPS = np.finfo(float).eps
 _WORK_BYTES = 2**28      # complex working grids of one batch of columns
 
 
@@ -79,7 +78,7 @@ class BoxConvolution(spla.LinearOperator):
         self.reverse = [(-np.arange(g)) % g for g in self.grid]
         self.norm_bound = sum(float(np.abs(a).max()) for a in spectra.values())
         size = int(np.prod(self.grid))
-        self.rounding = 5.0 * _EPS * math.log2(max(size, 2)) * self.norm_bound
+        self.rounding = 5.0 * EPS * math.log2(max(size, 2)) * self.norm_bound
         # columns per FFT batch: about 4 complex half-grids each, _WORK_BYTES in all
         self.step = max(1, int(_WORK_BYTES // (4 * 16 * size // 2 + 1)))
 

@@ -15,11 +15,11 @@ import math
 import numpy as np
 import scipy.special
 
+from ..._numerics import EPS
 from ..._errors import ConvergenceError
 
 __all__ = ["Axis", "KernelTables", "correlator_factors", "image_combos", "lattice_axes"]
 
-_EPS = np.finfo(float).eps
 _T_MAX = 6.0            # t range of the sinh map: s = exp(±π/2·sinh 6) ≈ e^{±317}
 _H_START = 0.5          # first trapezoid step in t
 _H_MIN = 2.0**-9        # give up (ConvergenceError) below this step
@@ -176,7 +176,7 @@ class KernelTables:
             levels += 1
             modes = max([ax.n_modes for ax in axes] + [1])
             # rounding model of blocked (BLAS / pairwise) sums over nodes and modes, per axis
-            self.rounding = _EPS * (8 + 2 * len(axes) + math.log2(nodes) + math.log2(modes)) \
+            self.rounding = EPS * (8 + 2 * len(axes) + math.log2(nodes) + math.log2(modes)) \
                 * h * abs_w
             target = max(self.rounding, 1e-6 * tol)
             if levels >= 2 and diff_x <= target and diff_p <= target * self.p_scale:
@@ -195,8 +195,8 @@ class KernelTables:
 
     def entry_errors(self, n_terms, fx, fp):
         """Bounds on one entry of X = fx·Σ±g and P = fp·Σ±g summed from ``n_terms`` table values."""
-        return (fx * n_terms * (self.err_x + 2 * _EPS * np.abs(self.vm).max()),
-                fp * n_terms * (self.err_p + 2 * _EPS * np.abs(self.vp).max()))
+        return (fx * n_terms * (self.err_x + 2 * EPS * np.abs(self.vm).max()),
+                fp * n_terms * (self.err_p + 2 * EPS * np.abs(self.vp).max()))
 
     def _sums(self, h, offset):
         s, jac = _nodes(h, offset)
