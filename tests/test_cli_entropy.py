@@ -40,7 +40,21 @@ def test_mutual_information_keys(capsys):
     assert code == 0
     assert_allclose(d["mutual_information"], d["entropy"] + d["entropy_b"] - d["entropy_ab"],
                     rtol=1e-12)
-    assert d["mutual_information"] > 0 and d["negativity"] >= 0
+    assert d["mutual_information"] > 0 and "negativity" not in d
+    assert d["log_negativity"] > 100 * d["log_negativity_error_bound"] > 0
+
+
+def test_negativity_summary_and_pure_complement(capsys):
+    # A against the rest of a pure state: E_N = S_1/2(A) (Vidal & Werner 2002, PRA 65 032314).
+    code, out, _ = run_cli(capsys, "entropy", "--shape", "12", "--mass", "0.3", "--box", "4",
+                           "--origin", "0", "--box-b", "8", "--origin-b", "4", "--negativity",
+                           "--renyi", "0.5", "--json")
+    d = json.loads(out)
+    assert code == 0 and d["info"]["pure_complement"]
+    assert_allclose(d["log_negativity"], d["renyi"]["0.5"], rtol=1e-12)
+    code, out, _ = run_cli(capsys, "entropy", "--shape", "12", "--mass", "0.3", "--box", "3",
+                           "--origin", "2", "--box-b", "3", "--origin-b", "5", "--negativity")
+    assert code == 0 and "log negativity" in out and "partial transpose" in out
 
 
 def test_summary_is_readable(capsys):
@@ -73,8 +87,12 @@ def test_matrix_files_and_site_list(tmp_path, capsys):
     (["--shape", "ten", "--box", "3"], "not a positive integer"),
     (["--shape", "10", "--mass", "1", "--box", "3", "--method", "nope"], "invalid choice"),
     (["--shape", "10", "--mass", "1", "--box", "4", "--box-b", "4"], "share"),
+    (["--shape", "10", "--mass", "1", "--box", "4", "--origin", "0", "--box-b", "4",
+      "--origin-b", "2", "--negativity"], "the logarithmic negativity needs disjoint regions"),
+    (["--shape", "10", "--mass", "1", "--box", "4", "--negativity"], "needs a second region"),
 ], ids=["renyi-0", "renyi-neg", "zero-mode", "missing-file", "box-outside", "no-region",
-        "unknown-option", "bad-shape", "bad-method", "overlap"])
+        "unknown-option", "bad-shape", "bad-method", "overlap", "negativity-overlap",
+        "negativity-without-b"])
 def test_user_errors_are_one_line(capsys, args, needle):
     try:
         code = main(["entropy", *args])

@@ -96,16 +96,6 @@ def test_symplectic_spectrum_matches_eigenvalues_of_xp():
     assert np.all(spec.t_error < 1e-12)
 
 
-def test_negativity_equals_half_renyi_for_pure_bipartite_state():
-    # For a pure state of A ∪ B, E_N = S_{1/2}(A) (Vidal & Werner 2002, PRA 65 032314).
-    net = al.hypercubic(14, mass=0.4)
-    a = al.box(net, 5, origin=0)
-    b = al.complement(net, a)
-    en, _ = al.logarithmic_negativity(net, a, b)
-    res = al.entropy(net, a, renyi=[0.5])
-    assert_allclose(en, res.renyi["0.5"], atol=1e-6)
-
-
 def test_mutual_information_decays_with_distance():
     net = al.hypercubic(200, mass=0.05)
     a = al.box(net, 10, origin=50)

@@ -13,7 +13,7 @@ True
 """
 
 from .methods import _builtin  # noqa: F401  (registers dense, spectral, sparse, ...)
-from ._entropy import EntropyResult, entropy, logarithmic_negativity
+from ._entropy import EntropyResult, NegativityResult, entropy, logarithmic_negativity
 from ._errors import ConvergenceError, InsufficientMemoryError, UnsupportedMethodError
 from .methods import choose_method, method_names, radial_entropy, radial_lattice, shells
 from .network import (HypercubicLattice, OscillatorNetwork, Region, ball, box, complement,
@@ -29,7 +29,7 @@ from .workflow import (Case, FitResult, ResultStore, Scenario, fit_rows, fit_sca
 __version__ = "0.1.0"
 
 __all__ = sorted([
-    "Case", "ConvergenceError", "EntropyResult", "FitResult", "ResultStore", "Scenario",
+    "Case", "ConvergenceError", "EntropyResult", "FitResult", "NegativityResult", "ResultStore", "Scenario",
     "fit_rows", "fit_scaling", "load_scenario", "parse_scenario", "restricted_spectrum",
     "run_cases", "write_report", "HypercubicLattice", "InsufficientMemoryError",
     "OscillatorNetwork", "Region", "SymplecticSpectrum", "Tail", "UnsupportedMethodError",

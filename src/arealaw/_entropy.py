@@ -5,15 +5,16 @@ import time
 from dataclasses import dataclass, field
 
 import numpy as np
-import scipy.linalg
 
-from ._numerics import DEFAULT_TOL, check_tol
+from ._numerics import DEFAULT_TOL, check_tol, require_memory
 from .spectrum._measures import (entanglement_energies, entropy_error_bound, mutual_information,
                         normalize_order, order_label, renyi_entropy, von_neumann_entropy)
+from .spectrum._negativity import (log_negativity, log_negativity_error_bound,
+                                   partial_transpose_spectrum)
 from .methods._registry import choose_method
 from .network._regions import Region, union
 
-__all__ = ["EntropyResult", "entropy", "logarithmic_negativity"]
+__all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativity"]
 
 
 @dataclass
@@ -45,11 +46,16 @@ class EntropyResult:
     region_b: str = None
     entanglement_energies: list = None
     entropy_per_area: float = None
+    log_negativity: float = None
+    log_negativity_error_bound: float = None
     spectrum: object = field(default=None, repr=False)
     info: dict = field(default_factory=dict)
 
     def to_dict(self):
         d = {k: v for k, v in self.__dict__.items() if k not in ("spectrum",)}
+        if self.log_negativity is None:
+            d.pop("log_negativity")
+            d.pop("log_negativity_error_bound")
         if self.mutual_information is None:
             for k in ("entropy_b", "entropy_ab", "mutual_information",
                       "mutual_information_error_bound", "region_b_sites", "region_b"):
@@ -58,6 +64,33 @@ class EntropyResult:
             d.pop("entanglement_energies")
         if self.entropy_per_area is None:
             d.pop("entropy_per_area")
+        return _jsonable(d)
+
+
+@dataclass
+class NegativityResult:
+    """Logarithmic negativity E_N(A:B) = ln‖ρ_AB^{T_B}‖₁ of two disjoint regions.
+
+    ``error_bound`` bounds |E_N − E_N(exact)| from the numerics (eigenvalue residuals and the
+    correlator errors).  ``route`` says how it was computed: ``'partial transpose'`` of the
+    reduced state of A ∪ B (the rest traced out), or, for a pure state with B the complement of
+    A, ``'pure state: Renyi-1/2 entropy of A'`` (E_N = S_½(A), Vidal & Werner 2002).
+    """
+
+    log_negativity: float
+    error_bound: float
+    method: str
+    reason: str
+    route: str
+    region_sites: int
+    region_b_sites: int
+    seconds: float = 0.0
+    info: dict = field(default_factory=dict)
+
+    def to_dict(self):
+        """JSON layout: ``log_negativity``, ``log_negativity_error_bound`` and the context."""
+        d = dict(self.__dict__)
+        d["log_negativity_error_bound"] = d.pop("error_bound")
         return _jsonable(d)
 
 
@@ -91,8 +124,22 @@ def _measures(spec, orders):
     return von_neumann_entropy(spec), entropy_error_bound(spec), renyi, renyi_err
 
 
+def _check_pair(network, region, region_b, what):
+    _check_region(network, region_b, "region_b")
+    overlap = np.intersect1d(region.indices, region_b.indices)
+    if overlap.size:
+        raise ValueError(f"regions A and B share {overlap.size} sites (e.g. site "
+                         f"{int(overlap[0])}); {what} needs disjoint regions")
+
+
+def _pure_complement(network, region, region_b):
+    """True when A, B (disjoint) cover a finite network whose state is pure."""
+    return (network.n_sites is not None and region.size > 0 and region_b.size > 0
+            and region.size + region_b.size == network.n_sites)
+
+
 def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFAULT_TOL,
-            energies=0):
+            energies=0, negativity=False):
     """Entanglement entropy of ``region`` in the ground state of ``network``.
 
     Parameters
@@ -101,6 +148,8 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     region : Region
     region_b : Region, optional
         A second region disjoint from ``region``: adds S_B, S_AB and I(A:B) = S_A + S_B − S_AB.
+        When the two cover the network (B = ``complement(network, region)``) the state of A ∪ B
+        is pure, so S_B = S_A and S_AB = 0 are used without computing them.
     renyi : sequence of float or 'inf'
         Rényi orders n > 0 to report besides von Neumann.
     method : str
@@ -109,6 +158,9 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         Target accuracy of the correlators (absolute, lattice units).
     energies : int
         Also return the lowest ``energies`` entanglement energies (0: none).
+    negativity : bool
+        With ``region_b``: also the logarithmic negativity E_N(A:B) and its error bound
+        (``log_negativity``, ``log_negativity_error_bound``; see :func:`logarithmic_negativity`).
 
     Returns
     -------
@@ -128,16 +180,20 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     tol = check_tol(tol)
     if isinstance(energies, bool) or not isinstance(energies, (int, np.integer)) or energies < 0:
         raise ValueError(f"energies={energies!r} must be a whole number >= 0")
+    if not isinstance(negativity, (bool, np.bool_)):
+        raise ValueError(f"negativity={negativity!r} must be True or False")
     _check_region(network, region, "region")
+    if negativity and region_b is None:
+        raise ValueError("negativity=True needs region_b (a second region disjoint from region; "
+                         "for A against the rest use complement(network, region))")
     regions = [region]
+    pure = False
     if region_b is not None:
-        _check_region(network, region_b, "region_b")
-        overlap = np.intersect1d(region.indices, region_b.indices)
-        if overlap.size:
-            raise ValueError(f"regions A and B share {overlap.size} sites (e.g. site "
-                             f"{int(overlap[0])}); mutual information needs disjoint regions")
-        region_ab = union(network, region, region_b)
-        regions += [region_b, region_ab]
+        _check_pair(network, region, region_b,
+                    "the logarithmic negativity" if negativity else "mutual information")
+        pure = _pure_complement(network, region, region_b)
+        if not pure:
+            regions += [region_b, union(network, region, region_b)]
     choice = choose_method(network, regions, method, tol=tol)
     spectra = [choice.method.spectrum(network, r, tol=tol) for r in regions]
     s, err, ren, ren_err = _measures(spectra[0], orders)
@@ -153,12 +209,26 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     if energies:
         res.entanglement_energies = entanglement_energies(spectra[0])[:energies].tolist()
     if region_b is not None:
-        s_b, err_b, _, _ = _measures(spectra[1], [])
-        s_ab, err_ab, _, _ = _measures(spectra[2], [])
+        if pure:
+            # a pure state: B = Ā has A's spectrum (Schmidt decomposition) and S_AB = 0
+            s_b, err_b, s_ab, err_ab = s, err, 0.0, 0.0
+            res.info["pure_complement"] = True
+        else:
+            s_b, err_b, _, _ = _measures(spectra[1], [])
+            s_ab, err_ab, _, _ = _measures(spectra[2], [])
         res.entropy_b, res.entropy_ab = s_b, s_ab
         res.mutual_information = mutual_information(s, s_b, s_ab)
         res.mutual_information_error_bound = err + err_b + err_ab
         res.region_b_sites, res.region_b = region_b.size, region_b.description
+    if negativity:
+        # the partial transpose needs blocks: keep the entropy's method when it gives them
+        neg_method = choice.method if (method == "auto" and choice.method.provides_blocks) \
+            else method
+        neg = _negativity(network, region, region_b, neg_method, tol,
+                          spec_a=(spectra[0], choice.method.name) if pure else None)
+        res.log_negativity, res.log_negativity_error_bound = neg.log_negativity, neg.error_bound
+        res.info["log_negativity_route"] = neg.route
+        res.info["log_negativity_method"] = neg.method
     res.seconds = time.perf_counter() - t0
     return res
 
@@ -175,32 +245,70 @@ def _info(spec):
 def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DEFAULT_TOL):
     """Logarithmic negativity E_N(A:B) of the (generally mixed) reduced state of A ∪ B.
 
-    Partial transposition flips the sign of B's momenta, P → Π P Π with Π = diag(1_A, −1_B);
-    E_N = Σ max(0, −ln 2ν̃) over the symplectic eigenvalues ν̃ of (X_AB, ΠP_ABΠ)
-    (Vidal & Werner 2002).  Returns (E_N, method name).
+    The rest of the network is traced out.  Partial transposition flips the sign of B's
+    momenta, P̃ = R P_AB R with R = diag(1_A, −1_B); E_N = Σ max(0, −ln 2ν̃) over the symplectic
+    eigenvalues ν̃ of (X_AB, P̃) (Vidal & Werner 2002, Phys. Rev. A 65, 032314).  When A and B
+    cover the network the state is pure and E_N = S_½(A), computed from A's spectrum alone.
+
+    Parameters
+    ----------
+    network : OscillatorNetwork
+    region_a, region_b : Region
+        Disjoint regions.
+    method : str
+        ``'auto'`` or a method that gives correlator blocks (``'dense'``, ``'sparse'``,
+        ``'spectral'``); for B = Ā any method.
+    tol : float
+        Target accuracy of the correlators.
+
+    Returns
+    -------
+    NegativityResult
 
     Examples
     --------
     >>> from arealaw import hypercubic, box, logarithmic_negativity
     >>> net = hypercubic(12, mass=0.3)
-    >>> en, _ = logarithmic_negativity(net, box(net, 3, origin=2), box(net, 3, origin=5))
-    >>> en > 0
+    >>> res = logarithmic_negativity(net, box(net, 3, origin=2), box(net, 3, origin=5))
+    >>> res.log_negativity > 100 * res.error_bound > 0
     True
     """
+    tol = check_tol(tol)
     _check_region(network, region_a, "region_a")
-    _check_region(network, region_b, "region_b")
-    if np.intersect1d(region_a.indices, region_b.indices).size:
-        raise ValueError("regions A and B overlap; negativity needs disjoint regions")
-    rows = np.concatenate([region_a.indices, region_b.indices])
+    _check_pair(network, region_a, region_b, "the logarithmic negativity")
+    return _negativity(network, region_a, region_b, method, tol)
+
+
+def _partial_transpose_bytes(n):
+    # blocks X, P, the flipped P, the symmetric form, eigenvectors and the residual product
+    return 6.0 * 8.0 * float(n) ** 2
+
+
+def _negativity(network, region_a, region_b, method, tol, spec_a=None):
+    t0 = time.perf_counter()
+    sizes = dict(region_sites=region_a.size, region_b_sites=region_b.size)
+    if _pure_complement(network, region_a, region_b):
+        if spec_a is None:
+            choice = choose_method(network, [region_a], method, tol=tol)
+            name, reason = choice.method.name, choice.reason
+            spec_a = choice.method.spectrum(network, region_a, tol=tol)
+        else:
+            spec_a, name = spec_a
+            reason = "spectrum of A (shared with the entropy)"
+        return NegativityResult(
+            renyi_entropy(spec_a, 0.5), entropy_error_bound(spec_a, 0.5), name, reason,
+            "pure state: Renyi-1/2 entropy of A", **sizes, seconds=time.perf_counter() - t0)
     ab = union(network, region_a, region_b)
-    choice = choose_method(network, [ab], method, tol=tol)
+    choice = choose_method(network, [ab], method, tol=tol, blocks=True)
+    n = ab.size
+    require_memory(_partial_transpose_bytes(n), f"the partial transpose of {n} sites (A ∪ B)",
+                   "use smaller regions A and B")
+    rows = np.concatenate([region_a.indices, region_b.indices])
     b = choice.method.blocks(network, rows, tol=tol)
-    sign = np.concatenate([np.ones(region_a.size), -np.ones(region_b.size)])
-    p_t = b.p * sign[:, None] * sign[None, :]
-    chol = scipy.linalg.cholesky(0.5 * (b.x + b.x.T), lower=True)
-    w = chol.T @ p_t @ chol
-    nu2 = scipy.linalg.eigvalsh(0.5 * (w + w.T))
-    nu = np.sqrt(np.maximum(nu2, 0.0))
-    with np.errstate(divide="ignore"):
-        en = float(np.sum(np.maximum(0.0, -np.log(2 * nu))))
-    return en, choice.method.name
+    pt = partial_transpose_spectrum(b.x, b.p, np.arange(n) >= region_a.size,
+                                    x_error=b.x_error, p_error=b.p_error)
+    info = {"negative_modes": int(np.count_nonzero(pt.tau < 0)),
+            "min_nu": float(pt.nu.min())}
+    return NegativityResult(log_negativity(pt), log_negativity_error_bound(pt),
+                            choice.method.name, choice.reason, "partial transpose", **sizes,
+                            seconds=time.perf_counter() - t0, info=info)

@@ -2,7 +2,7 @@
 
 import math
 
-from .._entropy import entropy, logarithmic_negativity
+from .._entropy import entropy
 from .._numerics import DEFAULT_TOL
 from ..methods._registry import method_names
 from ..methods import radial_lattice, shells
@@ -16,6 +16,7 @@ EPILOG = """examples:
   arealaw entropy --shape 20 20 20 --box 10 10 10 --renyi 2 inf
   arealaw entropy --shape 30 30 --mass 0.1 --boundary periodic dirichlet --ball 6 --json
   arealaw entropy --shape 40 --mass 0.2 --box 5 --origin 5 --box-b 5 --origin-b 20
+  arealaw entropy --shape 200 --box 20 --origin 80 --box-b 20 --origin-b 100 --negativity
   arealaw entropy --potential V.npz --kinetic M.npz --sites region.txt
   arealaw entropy --radial 60 --dim 3 --shells 10               ball by partial waves
   arealaw entropy --shape 20 inf inf --boundary dirichlet periodic periodic --half-space 0 10
@@ -80,7 +81,8 @@ def register(sub):
     out.add_argument("--renyi", nargs="+", type=parse_order, default=[], metavar="N",
                      help="Rényi orders n > 0 (numbers or inf)")
     out.add_argument("--negativity", action="store_true",
-                     help="with region B: also the logarithmic negativity E_N(A:B)")
+                     help="with region B: also the logarithmic negativity E_N(A:B) of the "
+                          "reduced state of A and B (JSON key log_negativity)")
     out.add_argument("--energies", type=int, default=0, metavar="K",
                      help="also list the K lowest entanglement energies")
     out.add_argument("--method", default="auto", choices=method_names(),
@@ -148,13 +150,10 @@ def run(args):
 
 def _report(args, net, region, region_b):
     res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
-                  tol=args.tol, energies=args.energies)
+                  tol=args.tol, energies=args.energies, negativity=args.negativity)
     out = res.to_dict()
     if "lmax" in res.info:  # partial waves: the explicit angular-momentum cut-off
         out["lmax"] = res.info["lmax"]
-    if args.negativity:
-        out["negativity"], _ = logarithmic_negativity(net, region, region_b, method=res.method,
-                                                      tol=args.tol)
     if args.json:
         print_json(out)
     else:
@@ -185,8 +184,10 @@ def _summary(d):
                   f"entropy A∪B      {_fmt(d['entropy_ab'])}",
                   f"mutual info      {_fmt(d['mutual_information'])}  (error bound "
                   f"{d['mutual_information_error_bound']:.2g})"]
-    if "negativity" in d:
-        lines.append(f"log negativity   {_fmt(d['negativity'])}")
+    if "log_negativity" in d:
+        lines.append(f"log negativity   {_fmt(d['log_negativity'])}  (error bound "
+                     f"{d['log_negativity_error_bound']:.2g}; "
+                     f"{d['info']['log_negativity_route']})")
     if d.get("entanglement_energies"):
         e = ", ".join("inf" if (isinstance(x, str) or math.isinf(x)) else f"{x:.6g}"
                       for x in d["entanglement_energies"])

@@ -89,6 +89,8 @@ class Method:
     """Protocol of a method: ``assess`` (can it serve, at what cost) and ``spectrum``."""
 
     name = "abstract"
+    #: Whether :meth:`blocks` serves correlator blocks (needed by the logarithmic negativity).
+    provides_blocks = False
 
     def assess(self, network, regions, *, tol):
         raise NotImplementedError
@@ -111,6 +113,7 @@ class BlockMethod(Method):
 
     #: Optional restricted solver: callable(backend, network, rows, tol) -> SymplecticSpectrum.
     restricted_solver = staticmethod(restricted_block_spectrum)
+    provides_blocks = True
 
     def __init__(self, backend_name):
         self.backend = get_backend(backend_name)
@@ -177,33 +180,44 @@ class Choice:
         return f"Choice({self.method.name!r}, {self.reason!r})"
 
 
-def choose_method(network, regions, method="auto", *, tol):
-    """Pick the method for ``regions`` of ``network``; explicit names are checked, not second-guessed."""
+def choose_method(network, regions, method="auto", *, tol, blocks=False):
+    """Pick the method for ``regions`` of ``network``; explicit names are checked, not second-guessed.
+
+    With ``blocks=True`` only methods that serve correlator blocks are considered.
+    """
     if isinstance(method, Method) or method != "auto":
         # a Method instance (e.g. one with non-default options) is used as given
         if not isinstance(method, Method) and method not in _METHODS:
             raise ValueError(f"unknown method {method!r}; choose one of "
                              f"{', '.join(method_names())}")
         m = method if isinstance(method, Method) else _METHODS[method]
+        if blocks and not m.provides_blocks:
+            alt = _best(network, regions, tol, blocks=True)
+            hint = f"; method={alt[0].name!r} can" if alt else ""
+            raise UnsupportedMethodError(f"method {m.name!r} gives no correlator blocks, which "
+                                         f"the logarithmic negativity needs{hint}")
         a = m.assess(network, regions, tol=tol)
         if not a.ok:
-            alt = _best(network, regions, tol)
+            alt = _best(network, regions, tol, blocks=blocks)
             hint = f"; method={alt[0].name!r} can ({alt[1].reason})" if alt else ""
             raise UnsupportedMethodError(f"method {m.name!r} cannot serve this case: "
                                          f"{a.reason}{hint}")
         return Choice(m, f"requested: {a.reason}")
-    best = _best(network, regions, tol)
+    best = _best(network, regions, tol, blocks=blocks)
     if best is None:
         reasons = "; ".join(f"{name}: {m.assess(network, regions, tol=tol).reason}"
-                            for name, m in sorted(_METHODS.items()))
+                            for name, m in sorted(_METHODS.items())
+                            if m.provides_blocks or not blocks)
         raise UnsupportedMethodError(f"no method can serve this case ({reasons})")
     m, a = best
     return Choice(m, f"auto: {a.reason} (estimated {a.seconds:.2g} s)")
 
 
-def _best(network, regions, tol):
+def _best(network, regions, tol, blocks=False):
     scored = []
     for order, m in enumerate(_METHODS.values()):
+        if blocks and not m.provides_blocks:
+            continue
         a = m.assess(network, regions, tol=tol)
         if a.ok:
             scored.append((a.seconds, order, m, a))

@@ -122,6 +122,20 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
     n = x.shape[0]
     if n == 0:
         raise ValueError("the region is empty; a symplectic spectrum needs at least one site")
+    lam, delta = form_eigenvalues(x, p, x_error=x_error, p_error=p_error)
+    return _make_spectrum(lam, delta, info=dict(info or {}))
+
+
+def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0):
+    """Eigenvalues of W − ¼ I, W = Lᵀ P L with X = L Lᵀ, and a bound on each one's error.
+
+    The eigenvalues of W are those of X P (ν² for a region's blocks, ν̃² for a partially
+    transposed P).  Each bound is the eigenvalue residual (or a rounding model above
+    ``RESIDUAL_BOUND_LIMIT`` sites) plus the block errors through Weyl's inequality,
+    ‖X‖·δP + ‖P‖·δX + δX·δP, which needs X and P positive definite.  ``x`` and ``p`` are
+    checked square blocks of one shape.
+    """
+    n = x.shape[0]
     xs = 0.5 * (x + x.T)
     ps = 0.5 * (p + p.T)
     try:
@@ -147,7 +161,7 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
         xn = _psd_norm(xs) if n <= 4000 else np.abs(xs).sum(axis=1).max()
         pn = _psd_norm(ps) if n <= 4000 else np.abs(ps).sum(axis=1).max()
         delta = delta + xn * p_error + pn * x_error + x_error * p_error
-    return _make_spectrum(lam, delta, info=dict(info or {}))
+    return lam, delta
 
 
 def combine_spectra(parts, *, extra_error=0.0, info=None):
