@@ -81,8 +81,27 @@ def test_fit_json(swept, capsys):
     assert fit["family"] == "intervals" and fit["dim"] == 1 and fit["points"] == 6
     assert set(fit["coefficients"]) == {"log", "const"}
     assert fit["central_charge"]["endpoints"] == 2
+    assert {"chi2", "dof", "p_value", "model_sigma", "relative_misfit", "warning"} <= set(fit)
     text = _out(capsys, ["fit", "--store", str(store), "--measure", "renyi:2"]).out
-    assert "central charge" in text
+    assert "central charge" in text and "against the error bounds: chi2" in text
+    assert "chi2/dof 1)" not in text
+
+
+def test_fit_text_warns_and_chord_fits(tmp_path, capsys):
+    # middle intervals of a nearly massless periodic chain: ln l bends away from the chord form
+    # of Calabrese & Cardy 2004 (J. Stat. Mech. P06002); the fit must say so in words
+    scen = tmp_path / "ring.toml"
+    scen.write_text('[lattices.ring]\nshape = [96]\nmass = 1e-5\nboundary = "periodic"\n'
+                    '[[family]]\nname = "intervals"\nbox = {from = 8, to = 48, step = 8}\n')
+    store = str(tmp_path / "ring.sqlite")
+    assert main(["run", str(scen), "--store", store, "--no-progress"]) == 0
+    text = _out(capsys, ["fit", "--store", store]).out
+    assert "WARNING: the law does not describe the data" in text, text
+    text = _out(capsys, ["fit", "--store", store, "--size", "chord"]).out
+    assert "WARNING" not in text and "chord length" in text, text
+    (fit,) = json.loads(_out(capsys, ["fit", "--store", store, "--size", "chord",
+                                      "--json"]).out)
+    assert abs(fit["central_charge"]["value"] - 1.0) < 0.02  # c = 1 (same source)
 
 
 def test_plot_writes_pngs(swept, capsys, tmp_path):

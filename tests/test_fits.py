@@ -99,12 +99,92 @@ def test_fit_rows_rejects_unknown_measure():
 
 
 def test_model_scatter_is_added_when_bounds_are_too_small():
-    # the bounds (1e-9) understate a scatter of 1e-3: sigma_m makes chi2/dof = 1 and the
-    # coefficients' errors then reflect the scatter (common practice, no source)
+    # the bounds (1e-9) understate a scatter of 1e-3: chi2 against the bounds alone is reported
+    # (~1e12 per point), sigma_m makes chi2/dof = 1 for the weights and the coefficients'
+    # errors then reflect the scatter (common practice, no source)
     rng = np.random.default_rng(5)
     r = np.linspace(2.0, 20.0, 40)
     s = 0.3 * r**2 + 0.5 + rng.normal(0, 1e-3, r.size)
     fit = fit_scaling(r, s, np.full(r.size, 1e-9), dim=3)
-    assert_allclose(fit.chi2_red, 1.0, rtol=1e-6)
+    assert fit.dof == 37 and 1e11 < fit.chi2_red < 1e13
+    assert_allclose(fit.chi2, fit.chi2_red * fit.dof)
+    assert fit.p_value < 1e-100 and "exceed the certified error bounds" in fit.assessment
     assert 5e-4 < fit.model_sigma < 2e-3
+    assert_allclose(np.sum((fit.residuals / fit.sigma) ** 2) / fit.dof, 1.0, rtol=1e-6)
     assert abs(fit["area"] - 0.3) < 4 * fit.error("area")
+    # a scatter of 1e-3 on an area term changing by 120 is a fair description: no warning
+    assert fit.relative_misfit < 1e-4 and fit.warning is None
+    d = fit.to_dict()
+    assert d["chi2_red"] == fit.chi2_red and d["warning"] is None and d["p_value"] < 1e-100
+
+
+def test_consistent_data_pass_the_chi2_test():
+    # noise drawn at the stated errors: p-value not small (seeded; common practice, no source)
+    rng = np.random.default_rng(9)
+    r = np.linspace(2.0, 30.0, 30)
+    s = 0.3 * r**2 + 0.1 * np.log(r) + rng.normal(0, 1e-4, r.size)
+    fit = fit_scaling(r, s, np.full(r.size, 1e-4), dim=3)
+    assert fit.p_value > 1e-3 and fit.model_sigma == 0.0 and fit.warning is None
+    assert "within their error bounds" in fit.assessment
+
+
+def test_chord_length_forms():
+    # Calabrese & Cardy 2004, J. Stat. Mech. P06002: periodic chord (N/pi) sin(pi l/N), open
+    # chain (2N/pi) sin(pi l/N); the Dirichlet lattice identification L = N + 1, cut at l + 1/2
+    # makes S(l) = S(N - l) (purity) an identity of the chord
+    from arealaw.workflow._fits import chord_length
+    assert_allclose(chord_length(np.array([5, 10]), 20, "periodic"),
+                    20 / np.pi * np.sin(np.pi * np.array([5, 10]) / 20))
+    assert_allclose(chord_length(4, 30, "open"), 60 / np.pi * np.sin(np.pi * 4 / 30))
+    ell = np.arange(1, 30)
+    assert_allclose(chord_length(ell, 30, "dirichlet"), chord_length(30 - ell, 30, "dirichlet"))
+    assert_allclose(chord_length(1, 10**6, "periodic"), 1.0, rtol=1e-9)  # -> l when N >> l
+    with pytest.raises(ValueError, match="1..29"):
+        chord_length(30, 30, "periodic")
+    with pytest.raises(ValueError, match="'twisted'"):
+        chord_length(3, 30, "twisted")
+
+
+def _chain_rows(tmp_path, n, mass, boundary, ells):
+    cases = [Case({"shape": [n], "mass": mass, "boundary": boundary},
+                  {"box": [int(ell)], "origin": [0]}, family="intervals", label=f"l={ell}",
+                  x=float(ell)) for ell in ells]
+    with ResultStore(tmp_path / f"{boundary}.sqlite") as st:
+        run_cases(cases, st, progress=False)
+        return st.rows()
+
+
+def test_chord_length_gives_c_1_on_finite_chains(tmp_path):
+    # Calabrese & Cardy 2004, J. Stat. Mech. P06002, finite-size forms: c = 1 for the harmonic
+    # chain.  Periodic: a massless periodic chain has a zero mode (no normalisable ground state,
+    # refused), so m = 1e-5 with m N << 1; its zero mode leaves c - 1 ~ 1e-3 at N = 256.
+    # Dirichlet (massless, no zero mode): intervals at the wall with the open-chain form.
+    rows = _chain_rows(tmp_path, 256, 1e-5, "periodic", np.arange(16, 129, 8))
+    chord = fit_rows(rows, size="chord")
+    assert chord.endpoints == 2 and chord.size == "chord"
+    assert abs(chord.central_charge - 1.0) < 0.01, chord.central_charge
+    assert chord.warning is None and chord.relative_misfit < 1e-4
+    # the plain ln l on the same data bends away from the chord form: c far from 1, and a
+    # warning in words (value from the same data; the criterion is MISFIT_LIMIT)
+    plain = fit_rows(rows, size="x")
+    assert abs(plain.central_charge - 1.0) > 0.1, plain.central_charge
+    assert plain.warning and "does not describe the data" in plain.warning
+    assert "chord" in plain.warning
+
+    rows = _chain_rows(tmp_path, 128, 0.0, "dirichlet", np.arange(8, 121, 8))
+    chord = fit_rows(rows, size="chord", endpoints=2)  # endpoints follow the boundary
+    assert chord.endpoints == 1
+    assert abs(chord.central_charge - 1.0) < 0.005, chord.central_charge
+    assert chord.warning is None
+    plain = fit_rows(rows, endpoints=1)
+    assert plain.warning and abs(plain.central_charge - 1.0) > 0.3
+
+
+def test_chord_length_refuses_middle_intervals_of_open_chains(tmp_path):
+    cases = [Case({"shape": [40], "mass": 0.0}, {"box": [ell]}, family="mid", label=str(ell),
+                  x=float(ell), method="dense") for ell in (4, 8, 12, 16)]
+    with ResultStore(tmp_path / "mid.sqlite") as st:
+        run_cases(cases, st, progress=False)
+        rows = st.rows()
+    with pytest.raises(ValueError, match="intervals at an end"):
+        fit_rows(rows, size="chord")

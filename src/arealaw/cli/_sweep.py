@@ -122,10 +122,12 @@ def _fit_options(p, family=True):
                    help="extra correction terms R^P (e.g. 1 or -1)")
     p.add_argument("--endpoints", type=int, choices=(1, 2), default=2,
                    help="1-D only: region endpoints, c = 3a (2) or 6a (1)")
-    p.add_argument("--size", choices=("x", "bonds"), default="x",
-                   help="size variable R in d >= 2: x = the swept value (default), bonds = "
+    p.add_argument("--size", choices=("x", "bonds", "chord"), default="x",
+                   help="size variable: x = the swept value (default); bonds (d >= 2) = "
                         "(couplings cut by the boundary)^(1/(d-1)), which follows jagged "
-                        "lattice surfaces")
+                        "lattice surfaces; chord (finite chains) = the conformal chord length "
+                        "of Calabrese & Cardy 2004 (periodic: any interval; dirichlet/open: "
+                        "intervals at an end), which sets --endpoints from the boundary")
 
 
 def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout=20.0):
@@ -209,8 +211,33 @@ def _fits(args, store):
                          "to = 6})")
     return [(group_name(k), fit_rows(g, measure=args.measure, powers=args.power,
                                      endpoints=args.endpoints,
-                                     size=args.size if g[0]["dim"] >= 2 else "x"), g)
+                                     size=_size(args.size, g[0]["dim"])), g)
             for k, g in groups.items()]
+
+
+def _size(size, dim):
+    """--size bonds means nothing in 1-D (one cut bond per end): fall back to x there."""
+    return "x" if size == "bonds" and dim < 2 else size
+
+
+def fit_lines(fit):
+    """The lines ``arealaw fit`` prints about one fit (also used by ``demo``)."""
+    scatter = f", model scatter {fit.model_sigma:.2g} added" if fit.model_sigma else ""
+    p = "" if fit.p_value is None else f", p = {fit.p_value:.2g}"
+    lines = [f"{fit.law}  ({fit.sizes.size} points; against the error bounds: chi2 "
+             f"{fit.chi2:.3g}, chi2/dof {fit.chi2_red:.3g}{p}{scatter})"]
+    for n, v, e in zip(fit.names, fit.coefficients, fit.stderr):
+        drift = fit.drift.get(n)
+        d = f"  drift {drift:.2g} dropping up to {len(fit.stability[n])} smallest" \
+            if drift is not None else ""
+        lines.append(f"  {n:8} {v:+.8g} ± {e:.2g}{d}")
+    if fit.central_charge is not None:
+        lines.append(f"  central charge c = {fit.central_charge:.6g} ± "
+                     f"{fit.central_charge_stderr:.2g}")
+    lines.append(f"  {fit.assessment}")
+    if fit.warning:
+        lines.append(f"  WARNING: {fit.warning}")
+    return lines
 
 
 def cmd_fit(args):
@@ -221,15 +248,10 @@ def cmd_fit(args):
                     for name, fit, _ in fits])
         return 0
     for name, fit, _ in fits:
-        print(f"{name}: {fit.law}  ({fit.sizes.size} points, chi2/dof {fit.chi2_red:.3g})")
-        for n, v, e in zip(fit.names, fit.coefficients, fit.stderr):
-            drift = fit.drift.get(n)
-            d = f"  drift {drift:.2g} dropping up to {len(fit.stability[n])} smallest" \
-                if drift is not None else ""
-            print(f"  {n:8} {v:+.8g} ± {e:.2g}{d}")
-        if fit.central_charge is not None:
-            print(f"  central charge c = {fit.central_charge:.6g} ± "
-                  f"{fit.central_charge_stderr:.2g}")
+        first, *rest = fit_lines(fit)
+        print(f"{name}: {first}")
+        for line in rest:
+            print(line)
     return 0
 
 
@@ -316,6 +338,7 @@ def cmd_demo(args):
             print(f"{key[0]}: {fit.law}, R = (boundary bonds)^(1/2): " + ", ".join(
                 f"{n} = {v:.5g} ± {e:.2g}" for n, v, e in
                 zip(fit.names, fit.coefficients, fit.stderr)))
+            print(f"  {fit.assessment}" + (f"\n  WARNING: {fit.warning}" if fit.warning else ""))
         report = write_report(store, out / "report.html", title=scenario.title, size="bonds")
     print(f"report: {report}  (total {time.perf_counter() - t0:.1f} s)")
     return status

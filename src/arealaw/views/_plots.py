@@ -44,7 +44,8 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     r = fit.sizes
     grid = np.linspace(r.min(), r.max(), 200)
     if fit.dim == 1:
-        x, xg, xlabel = np.log(r), np.log(grid), "ln ℓ"
+        x, xg = np.log(r), np.log(grid)
+        xlabel = "ln ℓ_c  (chord length)" if getattr(fit, "size", "x") == "chord" else "ln ℓ"
     else:
         x, xg = r ** (fit.dim - 1), grid ** (fit.dim - 1)
         if getattr(fit, "size", "x") == "bonds":

@@ -14,7 +14,7 @@ __all__ = ["fit_groups", "write_report"]
 STYLE = """body{font-family:sans-serif;max-width:60em;margin:2em auto;color:#222}
 table{border-collapse:collapse;margin:1em 0;font-size:90%}td,th{border:1px solid #bbb;
 padding:.2em .6em;text-align:right}th{background:#eee}img{max-width:100%}
-.note{color:#555;font-size:90%}"""
+.note{color:#555;font-size:90%}.warning{color:#a00}"""
 
 
 def fit_groups(rows):
@@ -58,20 +58,25 @@ def _fit_section(key, rows, powers, endpoints, size):
     parts = [f"<h3>Fit: {html.escape(name)}</h3>"]
     try:
         fit = fit_rows(rows, powers=powers, endpoints=endpoints,
-                       size=size if rows[0]["dim"] >= 2 else "x")
+                       size="x" if size == "bonds" and rows[0]["dim"] < 2 else size)
     except ValueError as exc:
         return parts + [f'<p class="note">no fit: {html.escape(str(exc))}</p>'], None
     body = []
     for n, v, e in zip(fit.names, fit.coefficients, fit.stderr):
         drops = "; ".join(f"−{k}: {a:.6g}" for k, a, _ in fit.stability.get(n, []))
         body.append([n, float(v), float(e), fit.drift.get(n), drops or "—"])
-    against = ("R = (boundary bonds)^(1/(d−1))" if fit.size == "bonds"
-               else "R = the swept size")
-    parts.append(f"<p>{html.escape(fit.law)} with {against}, {fit.sizes.size} points, "
-                 f"χ²/dof = {_num(fit.chi2_red, 4)} (weights: error bounds"
-                 + (f", plus a model scatter σ_m = {fit.model_sigma:.3g} in quadrature, as the "
-                    "law's truncation exceeds the bounds" if fit.model_sigma else "")
-                 + ")</p>")
+    against = {"bonds": "R = (boundary bonds)^(1/(d−1))",
+               "chord": "ℓ_c = the conformal chord length (Calabrese & Cardy 2004)"}.get(
+                   fit.size, "R = the swept size")
+    p_value = "" if fit.p_value is None else f", p = {fit.p_value:.2g}"
+    parts.append(f"<p>{html.escape(fit.law)} with {against}, {fit.sizes.size} points. Against "
+                 f"the error bounds alone: χ² = {_num(fit.chi2, 4)}, χ²/dof = "
+                 f"{_num(fit.chi2_red, 4)}{p_value}"
+                 + (f"; a model scatter σ_m = {fit.model_sigma:.3g} is added in quadrature to "
+                    "the weights, so the standard errors include it" if fit.model_sigma else "")
+                 + f". {html.escape(fit.assessment[:1].upper() + fit.assessment[1:])}.</p>")
+    if fit.warning:
+        parts.append(f'<p class="warning"><b>Warning:</b> {html.escape(fit.warning)}.</p>')
     parts.append(_table(["coefficient", "value", "std. error", "largest drift",
                          "dropping smallest sizes"], body))
     if fit.central_charge is not None:
