@@ -161,7 +161,7 @@ def chord_length(ell, n, boundary):
     --------
     >>> round(float(chord_length(8, 16, "periodic")), 6)    # ℓ = N/2: N/π
     5.092958
-    >>> bool(chord_length(3, 20, "dirichlet") == chord_length(17, 20, "dirichlet"))
+    >>> bool(np.isclose(chord_length(3, 20, "dirichlet"), chord_length(17, 20, "dirichlet")))
     True
     """
     ell = np.asarray(ell, dtype=float)
