@@ -9,6 +9,7 @@ import numpy as np
 from ._numerics import DEFAULT_TOL, check_tol, require_memory
 from .spectrum._measures import (entanglement_energies, entropy_error_bound, mutual_information,
                         normalize_order, order_label, renyi_entropy, von_neumann_entropy)
+from .correlators import check_temperature
 from .spectrum._negativity import (log_negativity, log_negativity_error_bound,
                                    partial_transpose_spectrum)
 from .methods._registry import choose_method
@@ -20,6 +21,9 @@ __all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativi
 @dataclass
 class EntropyResult:
     """Entropies of a region (and, with a second region, mutual information).
+
+    ``temperature`` is that of the state (0: the ground state); at T > 0 the entropy of a region
+    mixes thermal and entanglement parts and the whole system's entropy is the thermal one.
 
     ``error_bound`` bounds |S − S_exact| from the numerics (eigenvalue residuals, clamping,
     correlator approximation and solver tolerances, omitted tails).  :meth:`to_dict` gives the
@@ -38,6 +42,7 @@ class EntropyResult:
     region: str
     network: str
     seconds: float = 0.0
+    temperature: float = 0.0
     entropy_b: float = None
     entropy_ab: float = None
     mutual_information: float = None
@@ -132,15 +137,15 @@ def _check_pair(network, region, region_b, what):
                          f"{int(overlap[0])}); {what} needs disjoint regions")
 
 
-def _pure_complement(network, region, region_b):
-    """True when A, B (disjoint) cover a finite network whose state is pure."""
-    return (network.n_sites is not None and region.size > 0 and region_b.size > 0
+def _pure_complement(network, region, region_b, temperature=0.0):
+    """True when A, B (disjoint) cover a finite network whose state is pure (T = 0)."""
+    return (temperature == 0 and network.n_sites is not None and region.size > 0 and region_b.size > 0
             and region.size + region_b.size == network.n_sites)
 
 
 def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFAULT_TOL,
-            energies=0, negativity=False):
-    """Entanglement entropy of ``region`` in the ground state of ``network``.
+            energies=0, negativity=False, temperature=0.0):
+    """Entropy of ``region`` in the ground state (or Gibbs state at ``temperature``) of ``network``.
 
     Parameters
     ----------
@@ -161,6 +166,9 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     negativity : bool
         With ``region_b``: also the logarithmic negativity E_N(A:B) and its error bound
         (``log_negativity``, ``log_negativity_error_bound``; see :func:`logarithmic_negativity`).
+    temperature : float
+        T ≥ 0 of the Gibbs state ρ ∝ exp(−H/T) (k_B = ħ = 1, lattice units); 0 is the ground
+        state.  Methods that serve only the ground state refuse T > 0 and name one that can.
 
     Returns
     -------
@@ -173,6 +181,9 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     >>> res = entropy(net, box(net, 10, origin=0), method="dense")
     >>> round(res.entropy, 6), res.error_bound < 1e-9
     (0.135471, True)
+    >>> hot = entropy(net, box(net, 10, origin=0), method="dense", temperature=0.5)
+    >>> hot.entropy > res.entropy, hot.error_bound < 1e-9
+    (True, True)
     """
     t0 = time.perf_counter()
     orders = [normalize_order(n) for n in np.atleast_1d(np.asarray(renyi, dtype=object))] \
@@ -182,6 +193,7 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         raise ValueError(f"energies={energies!r} must be a whole number >= 0")
     if not isinstance(negativity, (bool, np.bool_)):
         raise ValueError(f"negativity={negativity!r} must be True or False")
+    temperature = check_temperature(temperature)
     _check_region(network, region, "region")
     if negativity and region_b is None:
         raise ValueError("negativity=True needs region_b (a second region disjoint from region; "
@@ -191,18 +203,19 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     if region_b is not None:
         _check_pair(network, region, region_b,
                     "the logarithmic negativity" if negativity else "mutual information")
-        pure = _pure_complement(network, region, region_b)
+        pure = _pure_complement(network, region, region_b, temperature)
         if not pure:
             regions += [region_b, union(network, region, region_b)]
-    choice = choose_method(network, regions, method, tol=tol)
-    spectra = [choice.method.spectrum(network, r, tol=tol) for r in regions]
+    choice = choose_method(network, regions, method, tol=tol, temperature=temperature)
+    spectra = [choice.method.spectrum(network, r, tol=tol, temperature=temperature)
+               for r in regions]
     s, err, ren, ren_err = _measures(spectra[0], orders)
     res = EntropyResult(
         entropy=s, error_bound=err, renyi=ren, renyi_error_bound=ren_err,
         modes=int(round(spectra[0].n_modes)), method=choice.method.name, reason=choice.reason,
         sites=network.n_sites if network.n_sites is not None else "inf",
         region_sites=region.size, region=region.description, network=repr(network),
-        spectrum=spectra[0], info=_info(spectra[0]))
+        spectrum=spectra[0], info=_info(spectra[0]), temperature=temperature)
     if spectra[0].info.get("per_area"):
         # infinite transverse axes: S itself is infinite; the spectrum is weighted per unit area
         res.entropy_per_area, res.entropy, res.region_sites = s, None, "inf"
@@ -225,7 +238,8 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         neg_method = choice.method if (method == "auto" and choice.method.provides_blocks) \
             else method
         neg = _negativity(network, region, region_b, neg_method, tol,
-                          spec_a=(spectra[0], choice.method.name) if pure else None)
+                          spec_a=(spectra[0], choice.method.name) if pure else None,
+                          temperature=temperature)
         res.log_negativity, res.log_negativity_error_bound = neg.log_negativity, neg.error_bound
         res.info["log_negativity_route"] = neg.route
         res.info["log_negativity_method"] = neg.method
@@ -242,7 +256,8 @@ def _info(spec):
     return info
 
 
-def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DEFAULT_TOL):
+def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DEFAULT_TOL,
+                           temperature=0.0):
     """Logarithmic negativity E_N(A:B) of the (generally mixed) reduced state of A ∪ B.
 
     The rest of the network is traced out.  Partial transposition flips the sign of B's
@@ -260,6 +275,8 @@ def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DE
         ``'spectral'``); for B = Ā any method.
     tol : float
         Target accuracy of the correlators.
+    temperature : float
+        T ≥ 0 of the Gibbs state (0: the ground state, pure).
 
     Returns
     -------
@@ -276,7 +293,8 @@ def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DE
     tol = check_tol(tol)
     _check_region(network, region_a, "region_a")
     _check_pair(network, region_a, region_b, "the logarithmic negativity")
-    return _negativity(network, region_a, region_b, method, tol)
+    return _negativity(network, region_a, region_b, method, tol,
+                       temperature=check_temperature(temperature))
 
 
 def _partial_transpose_bytes(n):
@@ -284,10 +302,10 @@ def _partial_transpose_bytes(n):
     return 6.0 * 8.0 * float(n) ** 2
 
 
-def _negativity(network, region_a, region_b, method, tol, spec_a=None):
+def _negativity(network, region_a, region_b, method, tol, spec_a=None, temperature=0.0):
     t0 = time.perf_counter()
     sizes = dict(region_sites=region_a.size, region_b_sites=region_b.size)
-    if _pure_complement(network, region_a, region_b):
+    if _pure_complement(network, region_a, region_b, temperature):
         if spec_a is None:
             choice = choose_method(network, [region_a], method, tol=tol)
             name, reason = choice.method.name, choice.reason
@@ -299,12 +317,12 @@ def _negativity(network, region_a, region_b, method, tol, spec_a=None):
             renyi_entropy(spec_a, 0.5), entropy_error_bound(spec_a, 0.5), name, reason,
             "pure state: Renyi-1/2 entropy of A", **sizes, seconds=time.perf_counter() - t0)
     ab = union(network, region_a, region_b)
-    choice = choose_method(network, [ab], method, tol=tol, blocks=True)
+    choice = choose_method(network, [ab], method, tol=tol, blocks=True, temperature=temperature)
     n = ab.size
     require_memory(_partial_transpose_bytes(n), f"the partial transpose of {n} sites (A ∪ B)",
                    "use smaller regions A and B")
     rows = np.concatenate([region_a.indices, region_b.indices])
-    b = choice.method.blocks(network, rows, tol=tol)
+    b = choice.method.blocks(network, rows, tol=tol, temperature=temperature)
     pt = partial_transpose_spectrum(b.x, b.p, np.arange(n) >= region_a.size,
                                     x_error=b.x_error, p_error=b.p_error)
     info = {"negative_modes": int(np.count_nonzero(pt.tau < 0)),

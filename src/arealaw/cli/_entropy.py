@@ -18,6 +18,7 @@ EPILOG = """examples:
   arealaw entropy --shape 40 --mass 0.2 --box 5 --origin 5 --box-b 5 --origin-b 20
   arealaw entropy --shape 200 --box 20 --origin 80 --box-b 20 --origin-b 100 --negativity
   arealaw entropy --potential V.npz --kinetic M.npz --sites region.txt
+  arealaw entropy --shape 40 40 --mass 0.1 --box 10 10 --temperature 0.2   Gibbs state
   arealaw entropy --radial 60 --dim 3 --shells 10               ball by partial waves
   arealaw entropy --shape 20 inf inf --boundary dirichlet periodic periodic --half-space 0 10
                                                                 entropy per unit area
@@ -49,7 +50,8 @@ def _region_options(parser, suffix=""):
 def register(sub):
     p = sub.add_parser("entropy", help="entanglement entropy of one region (or a pair)",
                        description="Entanglement entropy of a region of an oscillator network "
-                                   "in its ground state.",
+                                   "in its ground state (or, with --temperature, the entropy "
+                                   "of the region in the Gibbs state at temperature T).",
                        epilog=EPILOG, formatter_class=HelpFormatter)
     lat = p.add_argument_group("lattice (or matrices)")
     lat.add_argument("--shape", nargs="+", type=parse_extent, metavar="N",
@@ -87,6 +89,9 @@ def register(sub):
                      help="also list the K lowest entanglement energies")
     out.add_argument("--method", default="auto", choices=method_names(),
                      help="how to compute (default: auto, which says what it chose and why)")
+    out.add_argument("--temperature", type=float, default=0.0, metavar="T",
+                     help="temperature T >= 0 of the Gibbs state exp(-H/T), lattice units "
+                          "(default 0: the ground state)")
     out.add_argument("--tol", type=float, default=DEFAULT_TOL,
                      help=f"target accuracy of the correlators (default {DEFAULT_TOL:g})")
     out.add_argument("--json", action="store_true", help="print one JSON object")
@@ -150,7 +155,8 @@ def run(args):
 
 def _report(args, net, region, region_b):
     res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
-                  tol=args.tol, energies=args.energies, negativity=args.negativity)
+                  tol=args.tol, energies=args.energies, negativity=args.negativity,
+                  temperature=args.temperature)
     out = res.to_dict()
     if "lmax" in res.info:  # partial waves: the explicit angular-momentum cut-off
         out["lmax"] = res.info["lmax"]
@@ -168,8 +174,10 @@ def _fmt(x):
 def _summary(d):
     lines = [f"network          {d['network']}",
              f"region           {d['region']} ({d['region_sites']} sites)",
-             f"method           {d['method']} — {d['reason']}",
-             f"entropy          {_fmt(d['entropy'])}  (error bound {d['error_bound']:.2g})"]
+             f"method           {d['method']} — {d['reason']}"]
+    if d.get("temperature"):
+        lines.append(f"temperature      {_fmt(d['temperature'])}  (Gibbs state)")
+    lines.append(f"entropy          {_fmt(d['entropy'])}  (error bound {d['error_bound']:.2g})")
     if d.get("entropy_per_area") is not None:
         lines.append(f"entropy per area {_fmt(d['entropy_per_area'])}  (per unit boundary area; "
                      "Rényi values and bounds below are per area too)")

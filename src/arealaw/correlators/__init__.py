@@ -1,4 +1,4 @@
-"""Correlator backends: X[rows, cols] and P[rows, cols] of the ground state.
+"""Correlator backends: X[rows, cols] and P[rows, cols] of the ground state or a Gibbs state.
 
 Every backend implements :class:`CorrelatorBackend`; :func:`get_backend` looks one up by the
 name used in ``method=``.  New backends register themselves with :func:`register_backend`.
@@ -6,6 +6,7 @@ name used in ``method=``.  New backends register themselves with :func:`register
 
 from ._base import Assessment, Blocks, CorrelatorBackend, RegionOperators, operator_trace
 from ._dense import DenseBackend, dense_correlators
+from ._temperature import check_temperature, coth_factor
 from .sparse import IllConditionedWarning, SparseBackend
 from .spectral import SpectralBackend, spectral_correlators, spectral_trace
 
@@ -38,7 +39,8 @@ register_backend(SpectralBackend())
 
 __all__ = sorted([
     "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "IllConditionedWarning",
-    "RegionOperators", "SparseBackend", "backend_names", "operator_trace",
+    "RegionOperators", "SparseBackend", "backend_names", "check_temperature", "coth_factor",
+    "operator_trace",
     "SpectralBackend", "dense_correlators", "get_backend", "register_backend",
     "spectral_correlators", "spectral_trace",
 ])

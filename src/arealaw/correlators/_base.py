@@ -112,23 +112,25 @@ class CorrelatorBackend:
     return :class:`Blocks` holding ``X[rows, cols]`` and ``P[rows, cols]`` with error bounds.
     Subclasses implement :meth:`assess` and :meth:`blocks`; :meth:`operators` has a default that
     forms the region block, and backends that can apply X_A and P_A without forming them override
-    it (for matrix-free restricted spectra).
+    it (for matrix-free restricted spectra).  Every call takes ``temperature`` (T ≥ 0, default 0:
+    the ground state) and returns the correlators of the Gibbs state exp(−H/T); a backend that
+    cannot serve some T says so in :meth:`assess` and raises UnsupportedMethodError.
     """
 
     #: Method name used by ``method=`` and ``--method``.
     name = "abstract"
 
-    def assess(self, network, n_rows, *, tol):
+    def assess(self, network, n_rows, *, tol, temperature=0.0):
         """Return an :class:`Assessment` for blocks of ``n_rows`` sites of ``network``."""
         raise NotImplementedError
 
-    def blocks(self, network, rows, cols=None, *, tol):
+    def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
         """Return :class:`Blocks` with X[rows, cols], P[rows, cols] (``cols`` defaults to rows)."""
         raise NotImplementedError
 
-    def operators(self, network, rows, *, tol):
+    def operators(self, network, rows, *, tol, temperature=0.0):
         """Return :class:`RegionOperators` for the region ``rows`` (default: its dense blocks)."""
-        b = self.blocks(network, rows, tol=tol)
+        b = self.blocks(network, rows, tol=tol, temperature=temperature)
         return RegionOperators(spla.aslinearoperator(b.x), spla.aslinearoperator(b.p),
                                b.x_error, b.p_error, b.info, trace=operator_trace(b.x, b.p))
 

@@ -8,6 +8,7 @@ import scipy.linalg
 from .._errors import UnsupportedMethodError
 from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
+from ._temperature import check_temperature, coth_factor
 
 __all__ = ["DenseBackend", "dense_correlators"]
 
@@ -17,11 +18,17 @@ def dense_memory_bytes(n):
     return 5.0 * 8.0 * float(n) ** 2
 
 
-def dense_correlators(network):
-    """Full X and P of the ground state by eigendecomposition (the reference; O(N³)).
+def dense_correlators(network, *, temperature=0.0):
+    """Full X and P of the ground or Gibbs state by eigendecomposition (the reference; O(N³)).
 
-    With K = M^{-1/2} V M^{-1/2} = U Ω² Uᵀ:
-    X = ½ M^{-1/2} U Ω^{-1} Uᵀ M^{-1/2},  P = ½ M^{1/2} U Ω Uᵀ M^{1/2}.
+    With K = M^{-1/2} V M^{-1/2} = U Ω² Uᵀ and c = coth(Ω/2T) (c = 1 at T = 0):
+    X = ½ M^{-1/2} U c Ω^{-1} Uᵀ M^{-1/2},  P = ½ M^{1/2} U c Ω Uᵀ M^{1/2}.
+
+    Parameters
+    ----------
+    network : OscillatorNetwork
+    temperature : float
+        T ≥ 0 of the Gibbs state exp(−H/T) (k_B = ħ = 1); 0 is the ground state.
 
     Returns
     -------
@@ -37,7 +44,11 @@ def dense_correlators(network):
     >>> x, p, info = dense_correlators(OscillatorNetwork(np.array([[4.0]])))
     >>> float(x[0, 0]), float(p[0, 0])
     (0.25, 1.0)
+    >>> x, p, info = dense_correlators(OscillatorNetwork(np.array([[4.0]])), temperature=1.0)
+    >>> bool(abs(x[0, 0] - 0.25 / np.tanh(1.0)) < 1e-15)
+    True
     """
+    temperature = check_temperature(temperature)
     if network.is_infinite:
         raise UnsupportedMethodError("the dense method needs a finite network; an infinite "
                                      "lattice is served by method='spectral'")
@@ -64,8 +75,10 @@ def dense_correlators(network):
             f"{lam[0]:.3g}); a zero mode has no normalisable ground state — add a mass or a "
             "Dirichlet wall")
     omega = np.sqrt(lam)
-    x = 0.5 * (u / omega) @ u.T
-    p = 0.5 * (u * omega) @ u.T
+    coth = coth_factor(omega, temperature)
+    # ω/c and ω·c are ω itself at T = 0 (c = 1.0 exactly): the ground state bit for bit
+    x = 0.5 * (u / (omega / coth)) @ u.T
+    p = 0.5 * (u * (omega * coth)) @ u.T
     # A posteriori: each computed λ_i has an exact eigenvalue within its residual ‖K u_i − λ_i u_i‖
     # (plus the loss of orthogonality); X and P errors follow from 1/√λ and √λ mode by mode.
     resid = np.linalg.norm(k @ u - u * lam, axis=0)
@@ -73,8 +86,13 @@ def dense_correlators(network):
     if np.any(dlam >= lam / 2):
         raise ValueError(f"potential V is too ill-conditioned for the dense method (condition "
                          f"number {scale / lam[0]:.3g}); increase the mass")
-    x_err = float(np.max(0.5 * (1 / np.sqrt(lam - dlam) - 1 / omega))) + n * EPS / omega[0]
-    p_err = float(np.max(0.5 * (np.sqrt(lam + dlam) - omega))) + n * EPS * omega[-1]
+    # coth(ω/2T)/ω decreases and ω·coth(ω/2T) increases with ω, so the ends of each
+    # eigenvalue's interval bound its mode's error
+    w_lo, w_hi = np.sqrt(lam - dlam), np.sqrt(lam + dlam)
+    x_err = float(np.max(0.5 * (coth_factor(w_lo, temperature) / w_lo - coth / omega))) \
+        + n * EPS * coth[0] / omega[0]
+    p_err = float(np.max(0.5 * (w_hi * coth_factor(w_hi, temperature) - omega * coth))) \
+        + n * EPS * omega[-1] * coth[-1]
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -83,7 +101,7 @@ def dense_correlators(network):
     x = 0.5 * (x + x.T)
     p = 0.5 * (p + p.T)
     return x, p, {"omega_min": float(omega[0]), "omega_max": float(omega[-1]),
-                  "x_error": float(x_err), "p_error": float(p_err)}
+                  "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature}
 
 
 class DenseBackend(CorrelatorBackend):
@@ -92,9 +110,9 @@ class DenseBackend(CorrelatorBackend):
     name = "dense"
 
     def __init__(self):
-        self._cache = (lambda: None, None)  # (weakref to the network, its correlators)
+        self._cache = (lambda: None, None, None)  # (weakref to the network, T, correlators)
 
-    def assess(self, network, n_rows, *, tol):
+    def assess(self, network, n_rows, *, tol, temperature=0.0):
         if network.is_infinite:
             return Assessment(False, "the dense method needs a finite network")
         n = network.n_sites
@@ -104,15 +122,15 @@ class DenseBackend(CorrelatorBackend):
         return Assessment(True, f"exact eigendecomposition of all {n} sites", need,
                           seconds=3e-10 * float(n) ** 3)
 
-    def _full(self, network):
-        ref, result = self._cache
-        if ref() is not network:
-            result = dense_correlators(network)
-            self._cache = (weakref.ref(network), result)
+    def _full(self, network, temperature):
+        ref, temp, result = self._cache
+        if ref() is not network or temp != temperature:
+            result = dense_correlators(network, temperature=temperature)
+            self._cache = (weakref.ref(network), temperature, result)
         return result
 
-    def blocks(self, network, rows, cols=None, *, tol=None):
-        x, p, info = self._full(network)
+    def blocks(self, network, rows, cols=None, *, tol=None, temperature=0.0):
+        x, p, info = self._full(network, check_temperature(temperature))
         rows = np.asarray(rows)
         cols = rows if cols is None else np.asarray(cols)
         return Blocks(x[np.ix_(rows, cols)], p[np.ix_(rows, cols)], info["x_error"],

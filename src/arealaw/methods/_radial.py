@@ -42,6 +42,10 @@ _GL_NODES = 6
 _GL_CHECK = 3
 #: Largest tail quadrature panel count (ln l up to ~ 40).
 _MAX_PANELS = 40
+#: Why temperature > 0 is refused: the large-l tail bound assumes the ground state.
+_THERMAL_REFUSAL = ("the radial method serves only the ground state (its large-l tail bound "
+                    "assumes it); for temperature > 0 use a ball on arealaw.hypercubic with "
+                    "method='spectral' or 'dense'")
 #: Below this leading t a sector's modes are close to rounding; the quadrature stops there.
 _T_RELIABLE = 1e-11
 
@@ -284,7 +288,9 @@ class RadialMethod(Method):
         self.rtol = rtol
         self.n_jobs = n_jobs
 
-    def assess(self, network, regions, *, tol):
+    def assess(self, network, regions, *, tol, temperature=0.0):
+        if temperature > 0:
+            return Assessment(False, _THERMAL_REFUSAL)
         if not isinstance(network, RadialLattice):
             return Assessment(False, "the radial method serves arealaw.radial_lattice networks "
                                      "(balls on hypercubic lattices: method='dense' or another "
@@ -299,7 +305,9 @@ class RadialMethod(Method):
         return Assessment(True, f"partial waves on {network.n_radial} radial sites, "
                                 f"d = {network.dim}", 8.0 * network.n_radial**2 * 6, seconds)
 
-    def spectrum(self, network, region, *, tol):
+    def spectrum(self, network, region, *, tol, temperature=0.0):
+        if temperature > 0:
+            raise UnsupportedMethodError(_THERMAL_REFUSAL)
         if not isinstance(network, RadialLattice):
             raise UnsupportedMethodError("method 'radial' needs a radial lattice "
                                          "(arealaw.radial_lattice)")

@@ -122,13 +122,14 @@ class ReflectionBlockMethod(BlockMethod):
     whole block is used.
     """
 
-    def assess(self, network, regions, *, tol):
+    def assess(self, network, regions, *, tol, temperature=0.0):
         """As :class:`BlockMethod`, but regions that split into sectors cost their sectors."""
         groups = [None if r.size < MIN_SECTOR_REGION else _group(network, r.indices)
                   for r in regions]
         if not regions or any(g is None or g.size < 2 for g in groups):
-            return super().assess(network, regions, tol=tol)
-        a = self.backend.assess(network, max(r.size for r in regions), tol=tol)
+            return super().assess(network, regions, tol=tol, temperature=temperature)
+        a = self.backend.assess(network, max(r.size for r in regions), tol=tol,
+                                temperature=temperature)
         if not a.ok:
             return a
         big = max(regions, key=lambda r: r.size)
@@ -139,14 +140,14 @@ class ReflectionBlockMethod(BlockMethod):
                                    for r, g in zip(regions, groups))
         return Assessment(True, f"{a.reason}; {k} parity sectors", need, secs)
 
-    def spectrum(self, network, region, *, tol):
+    def spectrum(self, network, region, *, tol, temperature=0.0):
         grp = None if region.size < MIN_SECTOR_REGION else _group(network, region.indices)
         if grp is None or grp.size < 2:
-            return super().spectrum(network, region, tol=tol)
+            return super().spectrum(network, region, tol=tol, temperature=temperature)
         idx = region.indices
-        b = self.backend.blocks(network, idx[grp.reps], idx, tol=tol)
+        b = self.backend.blocks(network, idx[grp.reps], idx, tol=tol, temperature=temperature)
         if "entry_x_error" not in b.info:
-            return super().spectrum(network, region, tol=tol)
+            return super().spectrum(network, region, tol=tol, temperature=temperature)
         x_err = region.size * b.info["entry_x_error"]
         p_err = region.size * b.info["entry_p_error"]
         parts, sizes = [], []

@@ -60,13 +60,20 @@ def _restricted_seconds(n, m):
     return _RESTRICTED_SECONDS_PER_FLOP * (4.0 * float(n) ** 2 * m + 4.0 * float(n) * m * m)
 
 
-def restricted_plan(network, indices, tol):
+def restricted_plan(network, indices, tol, temperature=0.0):
     """Lanczos vectors the restricted solver would use, or None where the dense solver is chosen.
 
     Restricted beyond DENSE_SPECTRUM_LIMIT, or from RESTRICTED_MIN_SITES where it is estimated 2×
     cheaper.  Below RESTRICTED_MIN_SITES the dense solver stays: it is exact to rounding, while
     the restricted bound carries the concavity tail (≈ 1e-7 … 1e-6 at tol = 1e-10).
+
+    Never at temperature > 0: the restricted solver keeps the few modes far from ν = ½ and bounds
+    the rest by the trace, which pays only when almost all modes sit at ½ (the ground state's
+    boundary law).  A Gibbs state puts every mode of the region at ν ≥ ½ coth(ω_max/2T): the
+    spectrum is not dominated by near-½ modes and the full dense eigenproblem is used.
     """
+    if temperature > 0:
+        return None
     n = indices.size
     if n <= DENSE_SPECTRUM_LIMIT and n < RESTRICTED_MIN_SITES:
         return None
@@ -77,7 +84,7 @@ def restricted_plan(network, indices, tol):
 
 
 def restricted_block_spectrum(backend, network, rows, tol):
-    """Restricted spectrum from a backend's operators X_A, P_A (the BlockMethod hook)."""
+    """Restricted spectrum from a backend's operators X_A, P_A (the BlockMethod hook; T = 0 only)."""
     ops = backend.operators(network, rows, tol=tol)
     # entropy() has one accuracy knob: the correlator target ``tol`` doubles as the entropy
     # accuracy asked of the Lanczos tail (the block errors enter the bound separately)
@@ -86,19 +93,24 @@ def restricted_block_spectrum(backend, network, rows, tol):
 
 
 class Method:
-    """Protocol of a method: ``assess`` (can it serve, at what cost) and ``spectrum``."""
+    """Protocol of a method: ``assess`` (can it serve, at what cost) and ``spectrum``.
+
+    Both take ``temperature`` (T ≥ 0; 0 is the ground state): the spectrum is that of the
+    region's reduced Gibbs state.  A method that cannot serve T > 0 answers ``assess`` with
+    ``ok=False`` and a reason, and its ``spectrum`` raises UnsupportedMethodError.
+    """
 
     name = "abstract"
     #: Whether :meth:`blocks` serves correlator blocks (needed by the logarithmic negativity).
     provides_blocks = False
 
-    def assess(self, network, regions, *, tol):
+    def assess(self, network, regions, *, tol, temperature=0.0):
         raise NotImplementedError
 
-    def spectrum(self, network, region, *, tol):
+    def spectrum(self, network, region, *, tol, temperature=0.0):
         raise NotImplementedError
 
-    def blocks(self, network, rows, cols=None, *, tol):
+    def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
         """Correlator blocks, for measures that need them (negativity); optional."""
         raise UnsupportedMethodError(f"method {self.name!r} does not provide correlator blocks; "
                                      "use method='dense', 'spectral' or 'sparse'")
@@ -119,21 +131,24 @@ class BlockMethod(Method):
         self.backend = get_backend(backend_name)
         self.name = self.backend.name
 
-    def assess(self, network, regions, *, tol):
+    def assess(self, network, regions, *, tol, temperature=0.0):
         if any(r.size == 0 for r in regions):
             return Assessment(False, "a region with infinitely many sites (no site list) is "
                                      "served only by symmetry reductions (method='transverse')")
         n_max = max(r.size for r in regions)
-        a = self.backend.assess(network, n_max, tol=tol)
+        a = self.backend.assess(network, n_max, tol=tol, temperature=temperature)
         if not a.ok:
             return a
-        if n_max > DENSE_SPECTRUM_LIMIT and self.restricted_solver is None:
+        if n_max > DENSE_SPECTRUM_LIMIT and (self.restricted_solver is None or temperature > 0):
             need = _dense_spectrum_bytes(n_max)
             if not fits_in_memory(need):
+                why = (" (the restricted solver serves only the ground state)" if temperature > 0
+                       and self.restricted_solver is not None else "")
                 return Assessment(False, f"a dense eigenproblem of {n_max} sites needs "
-                                         f"{format_bytes(need)}", need)
+                                         f"{format_bytes(need)}{why}", need)
         big = max(regions, key=lambda r: r.size)
-        m = None if self.restricted_solver is None else restricted_plan(network, big.indices, tol)
+        m = None if self.restricted_solver is None else restricted_plan(network, big.indices, tol,
+                                                                        temperature)
         if m is not None:
             cost = a.seconds + len(regions) * _restricted_seconds(n_max, m)
             need = self.backend.operator_bytes(network, big.indices) + 16.0 * n_max * m
@@ -141,18 +156,19 @@ class BlockMethod(Method):
         cost = a.seconds + len(regions) * dense_spectrum_seconds(n_max)
         return Assessment(True, a.reason, max(a.bytes, _dense_spectrum_bytes(n_max)), cost)
 
-    def spectrum(self, network, region, *, tol):
+    def spectrum(self, network, region, *, tol, temperature=0.0):
         n = region.size
         if (self.restricted_solver is not None
-                and restricted_plan(network, region.indices, tol) is not None):
+                and restricted_plan(network, region.indices, tol, temperature) is not None):
             return self.restricted_solver(self.backend, network, region.indices, tol)
         require_memory(_dense_spectrum_bytes(n), f"a dense symplectic eigenproblem of {n} sites",
-                       "use a smaller region or a method with a restricted solver")
-        b = self.backend.blocks(network, region.indices, tol=tol)
+                       "use a smaller region" + ("" if temperature > 0 else
+                                                 " or a method with a restricted solver"))
+        b = self.backend.blocks(network, region.indices, tol=tol, temperature=temperature)
         return symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error, info=b.info)
 
-    def blocks(self, network, rows, cols=None, *, tol):
-        return self.backend.blocks(network, rows, cols, tol=tol)
+    def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
+        return self.backend.blocks(network, rows, cols, tol=tol, temperature=temperature)
 
 
 _METHODS = {}
@@ -180,7 +196,7 @@ class Choice:
         return f"Choice({self.method.name!r}, {self.reason!r})"
 
 
-def choose_method(network, regions, method="auto", *, tol, blocks=False):
+def choose_method(network, regions, method="auto", *, tol, blocks=False, temperature=0.0):
     """Pick the method for ``regions`` of ``network``; explicit names are checked, not second-guessed.
 
     With ``blocks=True`` only methods that serve correlator blocks are considered.
@@ -192,20 +208,21 @@ def choose_method(network, regions, method="auto", *, tol, blocks=False):
                              f"{', '.join(method_names())}")
         m = method if isinstance(method, Method) else _METHODS[method]
         if blocks and not m.provides_blocks:
-            alt = _best(network, regions, tol, blocks=True)
+            alt = _best(network, regions, tol, blocks=True, temperature=temperature)
             hint = f"; method={alt[0].name!r} can" if alt else ""
             raise UnsupportedMethodError(f"method {m.name!r} gives no correlator blocks, which "
                                          f"the logarithmic negativity needs{hint}")
-        a = m.assess(network, regions, tol=tol)
+        a = m.assess(network, regions, tol=tol, temperature=temperature)
         if not a.ok:
-            alt = _best(network, regions, tol, blocks=blocks)
+            alt = _best(network, regions, tol, blocks=blocks, temperature=temperature)
             hint = f"; method={alt[0].name!r} can ({alt[1].reason})" if alt else ""
             raise UnsupportedMethodError(f"method {m.name!r} cannot serve this case: "
                                          f"{a.reason}{hint}")
         return Choice(m, f"requested: {a.reason}")
-    best = _best(network, regions, tol, blocks=blocks)
+    best = _best(network, regions, tol, blocks=blocks, temperature=temperature)
     if best is None:
-        reasons = "; ".join(f"{name}: {m.assess(network, regions, tol=tol).reason}"
+        reasons = "; ".join(f"{name}: "
+                            f"{m.assess(network, regions, tol=tol, temperature=temperature).reason}"
                             for name, m in sorted(_METHODS.items())
                             if m.provides_blocks or not blocks)
         raise UnsupportedMethodError(f"no method can serve this case ({reasons})")
@@ -213,12 +230,12 @@ def choose_method(network, regions, method="auto", *, tol, blocks=False):
     return Choice(m, f"auto: {a.reason} (estimated {a.seconds:.2g} s)")
 
 
-def _best(network, regions, tol, blocks=False):
+def _best(network, regions, tol, blocks=False, temperature=0.0):
     scored = []
     for order, m in enumerate(_METHODS.values()):
         if blocks and not m.provides_blocks:
             continue
-        a = m.assess(network, regions, tol=tol)
+        a = m.assess(network, regions, tol=tol, temperature=temperature)
         if a.ok:
             scored.append((a.seconds, order, m, a))
     if not scored:

@@ -191,6 +191,11 @@ def _entropy_of(parts):
     return sum(wt * von_neumann_entropy(s) for s, wt in parts)
 
 
+#: Why temperature > 0 is refused: the chains' spectra are those of their ground states.
+_THERMAL_REFUSAL = ("the transverse reduction serves only the ground state; for temperature > 0 "
+                    "use method='spectral' (uniform lattices) or 'dense'")
+
+
 class TransverseMethod(Method):
     """``method='transverse'``: half-spaces and slabs of lattices periodic or infinite transversally."""
 
@@ -200,7 +205,9 @@ class TransverseMethod(Method):
         self.rtol = rtol
         self.max_levels = max_levels
 
-    def assess(self, network, regions, *, tol):
+    def assess(self, network, regions, *, tol, temperature=0.0):
+        if temperature > 0:
+            return Assessment(False, _THERMAL_REFUSAL)
         lat = network.lattice
         if not isinstance(lat, HypercubicLattice):
             return Assessment(False, "the transverse reduction needs a hypercubic lattice")
@@ -222,7 +229,9 @@ class TransverseMethod(Method):
         return Assessment(True, f"transverse reduction along axes {list(axes)}: {how}", nbytes,
                           len(regions) * n_k * chain)
 
-    def spectrum(self, network, region, *, tol):
+    def spectrum(self, network, region, *, tol, temperature=0.0):
+        if temperature > 0:
+            raise UnsupportedMethodError(_THERMAL_REFUSAL)
         axes, start, stop = _geometry(network, region)
         lat = network.lattice
         transverse = [lat.shape[a] for a in _transverse_axes(lat, axes)]

@@ -101,7 +101,10 @@ class SparseBackend(CorrelatorBackend):
         self._cache = (lambda: None, None)
 
     # -- cost model ----------------------------------------------------------------------------
-    def assess(self, network, n_rows, *, tol):
+    def assess(self, network, n_rows, *, tol, temperature=0.0):
+        if temperature > 0:
+            return Assessment(False, "the sparse method serves only the ground state so far; "
+                                     "use method='dense' or 'spectral' for temperature > 0")
         if network.is_infinite:
             return Assessment(False, "the sparse method needs a finite network (V is not formed "
                                      "for an infinite lattice); use method='spectral'")
@@ -166,7 +169,10 @@ class SparseBackend(CorrelatorBackend):
         return prep
 
     # -- blocks --------------------------------------------------------------------------------
-    def blocks(self, network, rows, cols=None, *, tol):
+    def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
+        if temperature > 0:
+            raise UnsupportedMethodError("the sparse method serves only the ground state so far; "
+                                         "use method='dense' or 'spectral' for temperature > 0")
         if network.is_infinite:
             raise UnsupportedMethodError("the sparse method needs a finite network; an infinite "
                                          "lattice is served by method='spectral'")

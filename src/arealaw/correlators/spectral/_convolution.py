@@ -18,7 +18,8 @@ import scipy.sparse.linalg as spla
 
 from ..._numerics import EPS, require_memory
 from .._base import RegionOperators
-from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
+from ._heat_kernel import (KernelTables, correlator_factors, image_combos, kernel_temperature,
+                           lattice_axes)
 
 __all__ = ["BoxConvolution", "box_grid_points", "box_operator_bytes", "box_operators"]
 
@@ -151,7 +152,7 @@ def box_operator_bytes(widths, n_terms):
         np.prod([2 * (2 * w - 1) for w in widths]))
 
 
-def box_operators(network, rows, *, tol):
+def box_operators(network, rows, *, tol, temperature=0.0):
     """:class:`RegionOperators` X_A, P_A of a uniform lattice as :class:`BoxConvolution` s.
 
     Examples
@@ -175,7 +176,8 @@ def box_operators(network, rows, *, tol):
     require_memory(box_operator_bytes(plan.width, n_terms),
                    f"FFT operators on a {'×'.join(str(int(w)) for w in plan.width)} box",
                    "use a more compact region")
-    tables = KernelTables(lat.mass, axes, plan, tol)
+    tables = KernelTables(lat.mass, axes, plan, tol,
+                          temperature=kernel_temperature(lat, temperature))
     fx, fp = correlator_factors(lat)
     x = BoxConvolution(_kernel_spectra(tables.vm, plan, axes, fx), plan.flat, plan.grid)
     p = BoxConvolution(_kernel_spectra(tables.vp, plan, axes, fp), plan.flat, plan.grid)
@@ -183,6 +185,6 @@ def box_operators(network, rows, *, tol):
     entry_x, entry_p = tables.entry_errors(n_terms, fx, fp)
     info = dict(tables.info, image_terms=n_terms, operator="fft-box",
                 box=[int(w) for w in plan.width], fft_grid=list(plan.grid),
-                entry_x_error=entry_x, entry_p_error=entry_p)
+                entry_x_error=entry_x, entry_p_error=entry_p, temperature=float(temperature))
     # ‖E‖₂ ≤ n · max |E_ij| for the tables, plus the FFT rounding of each product
     return RegionOperators(x, p, n * entry_x + x.rounding, n * entry_p + p.rounding, info)

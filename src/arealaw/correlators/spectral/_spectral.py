@@ -13,8 +13,10 @@ import numpy as np
 from ..._errors import UnsupportedMethodError
 from ..._numerics import available_bytes, require_memory
 from .._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
+from .._temperature import check_temperature
 from ._convolution import box_grid_points, box_operator_bytes, box_operators
-from ._heat_kernel import KernelTables, correlator_factors, image_combos, lattice_axes
+from ._heat_kernel import (KernelTables, correlator_factors, image_combos, kernel_temperature,
+                           lattice_axes)
 
 __all__ = ["SpectralBackend", "spectral_correlators", "spectral_trace"]
 
@@ -62,7 +64,7 @@ def _check_served(network):
 class _Gather:
     """Entries of X[rows, cols], P[rows, cols] in row chunks, from one converged table."""
 
-    def __init__(self, network, rows, cols, tol):
+    def __init__(self, network, rows, cols, tol, temperature=0.0):
         why = _check_served(network)
         if why:
             raise UnsupportedMethodError(
@@ -78,11 +80,12 @@ class _Gather:
                 f"{plan.table_shape}); the region is too spread out — use a compact region")
         require_memory(8.0 * table_size * (6 + len(axes)), "the spectral kernel table",
                        "use a more compact region")
-        self.tables = tables = KernelTables(lat.mass, axes, plan, tol)
+        self.tables = tables = KernelTables(lat.mass, axes, plan, tol,
+                                           temperature=kernel_temperature(lat, temperature))
         self.fx, self.fp = correlator_factors(lat)
         self.entry_x, self.entry_p = tables.entry_errors(plan.n_terms, self.fx, self.fp)
         self.info = dict(tables.info, image_terms=plan.n_terms, entry_x_error=self.entry_x,
-                         entry_p_error=self.entry_p)
+                         entry_p_error=self.entry_p, temperature=float(temperature))
 
     def chunks(self):
         """Yield (row slice, X rows, P rows) with at most _CHUNK entries per chunk."""
@@ -114,7 +117,7 @@ class _Gather:
             yield sl, xs, ps
 
 
-def spectral_correlators(network, rows, cols=None, *, tol=1e-12):
+def spectral_correlators(network, rows, cols=None, *, tol=1e-12, temperature=0.0):
     """Exact blocks X[rows, cols], P[rows, cols] of a uniform hypercubic lattice.
 
     Parameters
@@ -127,6 +130,9 @@ def spectral_correlators(network, rows, cols=None, *, tol=1e-12):
     tol : float
         Target accuracy of the entries; the quadrature is refined until two successive
         estimates differ by less than ``tol / 100`` (or by rounding only).
+    temperature : float
+        T ≥ 0 of the Gibbs state (0: the ground state); the heat-kernel integrand gains the
+        imaginary-time weight θ(s) (see :mod:`._heat_kernel`).
 
     Returns
     -------
@@ -149,7 +155,7 @@ def spectral_correlators(network, rows, cols=None, *, tol=1e-12):
     n_r, n_c = rows.size, cols.size
     require_memory(2 * 8.0 * n_r * n_c + 8 * 8.0 * min(n_r * n_c, _CHUNK),
                    f"spectral correlator blocks of {n_r}×{n_c} sites", "use a smaller region")
-    gather = _Gather(network, rows, cols, tol)
+    gather = _Gather(network, rows, cols, tol, check_temperature(temperature))
     x = np.empty((n_r, n_c))
     p = np.empty((n_r, n_c))
     for sl, xs, ps in gather.chunks():
@@ -159,7 +165,7 @@ def spectral_correlators(network, rows, cols=None, *, tol=1e-12):
     return Blocks(x, p, norm * gather.entry_x, norm * gather.entry_p, gather.info)
 
 
-def spectral_trace(network, rows, *, tol=1e-12, rep_rows=None, weights=None):
+def spectral_trace(network, rows, *, tol=1e-12, rep_rows=None, weights=None, temperature=0.0):
     """tr(X_A P_A) − n/4 of the region ``rows`` and a bound on its error, without storing X_A.
 
     Row chunks of X_A and P_A are formed and reduced on the fly (O(n) memory beyond a chunk).
@@ -185,7 +191,7 @@ def spectral_trace(network, rows, *, tol=1e-12, rep_rows=None, weights=None):
     if w.shape != reps.shape or abs(float(w.sum()) - n) > 1e-9 * n:
         raise ValueError(f"weights (total {float(w.sum())}) must give one weight per "
                          f"representative row and add up to the region size {n}")
-    gather = _Gather(network, rows[reps], rows, tol)
+    gather = _Gather(network, rows[reps], rows, tol, check_temperature(temperature))
     total, abs_total, abs_x, abs_p = 0.0, 0.0, 0.0, 0.0
     for sl, xs, ps in gather.chunks():
         prod = xs * ps
@@ -217,7 +223,7 @@ class SpectralBackend(CorrelatorBackend):
             raise ValueError(f"operators={operators!r}; choose 'auto', 'fft' or 'dense'")
         self.operator_kind = operators
 
-    def assess(self, network, n_rows, *, tol):
+    def assess(self, network, n_rows, *, tol, temperature=0.0):
         why = _check_served(network)
         if why:
             return Assessment(False, why)
@@ -233,10 +239,10 @@ class SpectralBackend(CorrelatorBackend):
         return Assessment(True, f"exact heat-kernel quadrature on the uniform {shape} lattice",
                           need, secs)
 
-    def blocks(self, network, rows, cols=None, *, tol):
-        return spectral_correlators(network, rows, cols, tol=tol)
+    def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
+        return spectral_correlators(network, rows, cols, tol=tol, temperature=temperature)
 
-    def operators(self, network, rows, *, tol):
+    def operators(self, network, rows, *, tol, temperature=0.0):
         """X_A, P_A as FFT box convolutions where cheaper than dense blocks (or where those
         would not fit), with the exact trace gathered row by row; otherwise dense blocks."""
         why = _check_served(network)
@@ -246,11 +252,11 @@ class SpectralBackend(CorrelatorBackend):
         rows = np.asarray(rows, dtype=np.int64).ravel()
         fft, why = self._choose(network, rows)
         if not fft:
-            ops = super().operators(network, rows, tol=tol)
+            ops = super().operators(network, rows, tol=tol, temperature=temperature)
             ops.info = dict(ops.info, operator="dense-blocks", operator_reason=why)
             return ops
-        ops = box_operators(network, rows, tol=tol)
-        ops.trace = spectral_trace(network, rows, tol=tol)
+        ops = box_operators(network, rows, tol=tol, temperature=temperature)
+        ops.trace = spectral_trace(network, rows, tol=tol, temperature=temperature)
         ops.info = dict(ops.info, operator_reason=why)
         return ops
 

@@ -1,0 +1,186 @@
+"""Gibbs states at temperature T > 0: every backend against the dense reference and physics."""
+
+import math
+import numpy as np
+import pytest
+import scipy.integrate
+import scipy.linalg
+import scipy.sparse as sp
+from numpy.testing import assert_allclose
+
+import arealaw as al
+from arealaw import UnsupportedMethodError
+from arealaw.correlators import dense_correlators, get_backend, spectral_correlators
+
+
+def _random_network(n, seed, *, diagonal_m):
+    """A random sparse SPD V (chain plus random long bonds) and SPD M (diagonal or banded)."""
+    rng = np.random.default_rng(seed)
+    off = -rng.uniform(0.2, 1.0, n - 1)
+    v = sp.diags([off, off], [-1, 1], shape=(n, n)).tolil()
+    for _ in range(n // 2):
+        i, j = rng.choice(n, 2, replace=False)
+        w = rng.uniform(0.05, 0.3)
+        v[i, j] -= w
+        v[j, i] -= w
+    v = v.tocsr()
+    v = v + sp.diags(np.asarray(abs(v).sum(axis=1)).ravel() + rng.uniform(0.1, 0.5, n))
+    if diagonal_m:
+        m = sp.diags(rng.uniform(0.5, 2.0, n))
+    else:
+        o = rng.uniform(-0.3, 0.3, n - 1)
+        m = sp.diags([o, 1.0 + rng.uniform(0.2, 1.0, n), o], [-1, 0, 1])
+    return al.OscillatorNetwork(v.tocsr(), m.tocsr())
+
+
+def _mode_entropy(omega, t):
+    """(n+1) ln(n+1) − n ln n with n = 1/(e^{ω/T} − 1): one thermal oscillator."""
+    n = 1.0 / np.expm1(omega / t)
+    return (n + 1) * np.log1p(n) - np.where(n > 0, n * np.log(np.where(n > 0, n, 1.0)), 0.0)
+
+
+def test_zero_temperature_is_the_ground_state_exactly():
+    net = al.hypercubic((9, 8), mass=0.3)
+    reg = al.box(net, (4, 3))
+    for method in ("dense", "spectral", "sparse"):
+        g = al.entropy(net, reg, method=method, renyi=[2])
+        z = al.entropy(net, reg, method=method, renyi=[2], temperature=0.0)
+        assert z.entropy == g.entropy and z.error_bound == g.error_bound
+        assert z.renyi == g.renyi and z.temperature == 0.0
+    x0, p0, _ = dense_correlators(net)
+    xt, pt, _ = dense_correlators(net, temperature=0)
+    assert np.array_equal(x0, xt) and np.array_equal(p0, pt)
+
+
+@pytest.mark.parametrize("diagonal_m", [True, False], ids=["diag-M", "banded-M"])
+def test_whole_system_entropy_is_the_sum_of_normal_mode_entropies(diagonal_m):
+    # Standard statistical mechanics: the Gibbs state is a product over normal modes, each with
+    # S = (n+1) ln(n+1) − n ln n, n the Bose–Einstein occupation (common practice, no source).
+    net = _random_network(24, 5, diagonal_m=diagonal_m)
+    v, m = net.potential.toarray(), net.kinetic.toarray()
+    omega = np.sqrt(scipy.linalg.eigh(v, m, eigvals_only=True))
+    whole = al.from_sites(net, np.arange(24))
+    for t in (0.1, 0.7, 3.0):
+        res = al.entropy(net, whole, method="dense", temperature=t, renyi=[2])
+        exact = float(np.sum(_mode_entropy(omega, t)))
+        assert abs(res.entropy - exact) <= res.error_bound + 1e-12 * exact
+        assert res.error_bound < 1e-8 * max(exact, 1.0)
+        # Rényi-2 of a thermal oscillator: ln coth(ω/2T) (common practice, no source)
+        exact2 = float(np.sum(np.log(1 / np.tanh(omega / (2 * t)))))
+        assert abs(res.renyi["2"] - exact2) <= res.renyi_error_bound["2"] + 1e-12 * exact2
+
+
+@pytest.mark.parametrize("case", [
+    dict(shape=(13,), mass=0.2, boundary="dirichlet"),
+    dict(shape=(6, 7), mass=0.1, boundary=("periodic", "open"), coupling=(1.0, 0.5)),
+    dict(shape=(5, 4, 6), mass=0.3, boundary=("dirichlet", "periodic", "open"), inertia=0.6),
+], ids=["1d", "2d", "3d"])
+@pytest.mark.parametrize("t", [0.05, 0.4, 2.5])
+def test_spectral_blocks_equal_dense_at_temperature(case, t):
+    net = al.hypercubic(**case)
+    x, p, info = dense_correlators(net, temperature=t)
+    rows = np.arange(0, net.n_sites, 2)
+    b = spectral_correlators(net, rows, temperature=t)
+    ex = float(np.linalg.norm(b.x - x[np.ix_(rows, rows)], 2))
+    ep = float(np.linalg.norm(b.p - p[np.ix_(rows, rows)], 2))
+    assert ex <= b.x_error + info["x_error"] and ep <= b.p_error + info["p_error"]
+    assert b.x_error < 1e-9 * max(1.0, float(np.abs(x).max()))
+    assert b.p_error < 1e-9 * max(1.0, float(np.abs(p).max()))
+
+
+def test_thermal_entropy_every_backend_within_its_bound():
+    net = al.hypercubic((10, 9), mass=0.2)
+    reg, reg_b = al.box(net, (3, 3), origin=(1, 1)), al.box(net, (3, 2), origin=(6, 5))
+    ref = al.entropy(net, reg, region_b=reg_b, method="dense", temperature=0.3, renyi=[0.5])
+    for method in ("spectral",):
+        r = al.entropy(net, reg, region_b=reg_b, method=method, temperature=0.3, renyi=[0.5])
+        assert abs(r.entropy - ref.entropy) <= r.error_bound + ref.error_bound
+        assert abs(r.renyi["0.5"] - ref.renyi["0.5"]) <= (r.renyi_error_bound["0.5"]
+                                                          + ref.renyi_error_bound["0.5"])
+        assert abs(r.mutual_information - ref.mutual_information) <= (
+            r.mutual_information_error_bound + ref.mutual_information_error_bound)
+
+
+def _free_boson_entropy_density(mass, t, dim):
+    """s = ∫ d^dk/(2π)^d [(n+1) ln(n+1) − n ln n], ω² = m² + Σ 4 sin²(k_a/2), by quadrature."""
+    def integrand(*k):
+        omega = math.sqrt(mass ** 2 + sum(4 * math.sin(q / 2) ** 2 for q in k))
+        return float(_mode_entropy(np.array([omega]), t)[0])
+    if dim == 1:
+        val, _ = scipy.integrate.quad(integrand, -math.pi, math.pi, epsabs=1e-13, epsrel=1e-12)
+    else:
+        val, _ = scipy.integrate.dblquad(lambda a, b: integrand(a, b), -math.pi, math.pi,
+                                         -math.pi, math.pi, epsabs=1e-11, epsrel=1e-10)
+    return val / (2 * math.pi) ** dim
+
+
+def test_large_region_approaches_the_free_boson_entropy_density():
+    # Extensive thermal entropy (standard statistical mechanics, common practice, no source):
+    # S(ℓ) = s ℓ + 2 b + O(e^{−ℓ/ξ}) on an infinite chain, so the increment S(2ℓ) − S(ℓ) over ℓ
+    # tends to the lattice free-boson density s(T) of the dispersion ω² = m² + 4 sin²(k/2).
+    net = al.hypercubic("inf", mass=0.05)
+    t = 0.5
+    s = _free_boson_entropy_density(0.05, t, 1)
+    res = [al.entropy(net, al.box(net, ell, origin=0), method="spectral", temperature=t)
+           for ell in (40, 80)]
+    slope = (res[1].entropy - res[0].entropy) / 40
+    assert abs(slope - s) < 1e-6 * s
+    assert res[1].error_bound < 1e-6
+
+
+def test_mutual_information_of_distant_regions_decays():
+    # At T > 0 with a mass, correlations decay exponentially with the distance, so I(A:B) must
+    # fall steadily with the separation (common practice, no source).
+    net = al.hypercubic("inf", mass=0.3)
+    a = al.box(net, 6, origin=0)
+    mis = []
+    for gap in (2, 6, 12, 24):
+        r = al.entropy(net, a, region_b=al.box(net, 6, origin=6 + gap), method="spectral",
+                       temperature=1.0)
+        assert r.mutual_information_error_bound < 1e-9
+        mis.append(r.mutual_information)
+    assert all(x > y for x, y in zip(mis, mis[1:]))
+    assert mis[-1] < 1e-5 * mis[0]
+
+
+@pytest.mark.parametrize("bad", [-0.1, math.inf, math.nan, "hot", True])
+def test_bad_temperature_is_refused(bad):
+    net = al.hypercubic(8, mass=0.5)
+    with pytest.raises(ValueError, match="temperature"):
+        al.entropy(net, al.box(net, 3), temperature=bad)
+
+
+def test_ground_state_only_methods_refuse_and_name_one_that_can():
+    rad = al.radial_lattice(20, dim=3, mass=0.1)
+    with pytest.raises(UnsupportedMethodError, match="method='spectral'"):
+        al.entropy(rad, al.shells(rad, 4), method="radial", temperature=0.2)
+    net = al.hypercubic((8, 8), mass=0.3, boundary="periodic")
+    with pytest.raises(UnsupportedMethodError, match="method='spectral'"):
+        al.entropy(net, al.half_space(net, 0, 4), method="transverse", temperature=0.2)
+
+
+def test_auto_never_uses_the_restricted_solver_at_temperature():
+    from arealaw.methods._registry import restricted_plan
+    net = al.hypercubic((40, 40, 40), mass=0.1)
+    idx = al.ball(net, 14).indices
+    assert restricted_plan(net, idx, 1e-10) is not None
+    assert restricted_plan(net, idx, 1e-10, temperature=0.1) is None
+
+
+def test_cli_temperature_is_echoed_and_bad_values_exit_2(capsys):
+    import json
+    from arealaw.cli import main
+    code = main(["entropy", "--shape", "12", "--mass", "0.4", "--box", "5", "--temperature",
+                 "0.3", "--json"])
+    d = json.loads(capsys.readouterr().out)
+    net = al.hypercubic(12, mass=0.4)
+    ref = al.entropy(net, al.box(net, 5), temperature=0.3)
+    assert code == 0 and d["temperature"] == 0.3
+    assert abs(d["entropy"] - ref.entropy) <= ref.error_bound
+    for bad in ("-1", "nan", "inf"):
+        code = main(["entropy", "--shape", "12", "--box", "5", "--temperature", bad])
+        err = capsys.readouterr().err
+        assert code == 2 and err.count("\n") == 1 and "temperature" in err
+    code = main(["entropy", "--radial", "20", "--shells", "4", "--temperature", "0.2"])
+    err = capsys.readouterr().err
+    assert code == 2 and err.count("\n") == 1 and "temperature" in err
