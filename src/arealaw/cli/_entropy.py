@@ -64,9 +64,11 @@ def register(sub):
                      help="nearest-neighbour coupling, one value or one per axis (default 1)")
     lat.add_argument("--inertia", type=float, help="oscillator mass (diagonal of M, default 1)")
     lat.add_argument("--mass-disorder", type=float, metavar="W",
-                     help="seeded random site masses m_i = m + W*u, u ~ U(0,1)")
+                     help="seeded random site masses m_i = m + W*u_i, u_i ~ U(0,1) "
+                          "independent per site; any W >= 0")
     lat.add_argument("--coupling-disorder", type=float, metavar="W",
-                     help="seeded random couplings J*(1 + W*u), u ~ U(-1,1)")
+                     help="seeded random couplings J_b = J*(1 + W*u_b), u_b ~ U(-1,1) "
+                          "independent per bond; 0 <= W < 1 keeps every J_b > 0")
     lat.add_argument("--seed", type=int, help="seed of the disorder")
     lat.add_argument("--potential", metavar="V.npz", help="potential matrix (scipy save_npz)")
     lat.add_argument("--kinetic", metavar="M.npz", help="kinetic matrix (scipy save_npz)")

@@ -115,8 +115,8 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
     inertia : float or array_like
         Diagonal kinetic matrix M (oscillator masses), one value or one per site.
     mass_disorder, coupling_disorder : float
-        Seeded disorder: m_i = m + w·u_i with u_i ~ U(0, 1); J_bond = J·(1 + w·u), u ~ U(−1, 1),
-        0 ≤ w < 1.
+        Seeded disorder: m_i = m + w·u_i with u_i ~ U(0, 1) independent per site, any w ≥ 0;
+        J_bond = J·(1 + w·u_bond) with u_bond ~ U(−1, 1) independent per bond, 0 ≤ w < 1.
     seed : int, optional
         Seed of the disorder (``numpy.random.default_rng``).
 
@@ -145,9 +145,13 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
             raise ValueError(f"coupling {j!r} must be a positive finite number")
     boundaries = _per_axis(boundary, d, "boundary", _boundary)
     boundaries = tuple("infinite" if math.isinf(n) else b for n, b in zip(shape, boundaries))
-    for w, name in ((mass_disorder, "mass_disorder"), (coupling_disorder, "coupling_disorder")):
-        if not (0 <= w < 1):
-            raise ValueError(f"{name}={w!r} must satisfy 0 <= w < 1")
+    # m_i = m + w·u_i with u_i >= 0 stays a valid mass for any w >= 0; a coupling
+    # J·(1 + w·u), u in (−1, 1), stays positive only for w < 1
+    if not (0 <= mass_disorder < math.inf):
+        raise ValueError(f"mass_disorder={mass_disorder!r} must be a finite number >= 0")
+    if not (0 <= coupling_disorder < 1):
+        raise ValueError(f"coupling_disorder={coupling_disorder!r} must satisfy 0 <= w < 1 "
+                         "(larger w would give negative couplings)")
     infinite = any(math.isinf(n) for n in shape)
     if infinite and (np.ndim(mass) or np.ndim(inertia) or mass_disorder or coupling_disorder):
         raise ValueError("an infinite lattice must be uniform: scalar mass and inertia, no disorder")
