@@ -57,6 +57,9 @@ def register(sub):
                        description="Stored cases: a table, or JSON / CSV for other tools.")
     p.add_argument("--store", required=True, metavar="PATH")
     p.add_argument("--family", help="only this family")
+    p.add_argument("--each", action="store_true",
+                   help="list every realisation of a disorder ensemble (default: their means, "
+                        "with n and the standard error)")
     fmt = p.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="a JSON list, one object per case")
     fmt.add_argument("--csv", action="store_true", help="CSV, one row per case")
@@ -87,8 +90,9 @@ def register(sub):
 
     p = sub.add_parser("demo", help="run the bundled demo sweep, fit it and write a report",
                        formatter_class=HelpFormatter,
-                       description="Area law of balls in a 3-D lattice plus one mutual-"
-                                   "information pair: runs, fits and writes DIR/report.html.")
+                       description="Area law of balls in a 3-D lattice and the decay of the "
+                                   "mutual information of two cubes with their separation: "
+                                   "runs, fits and writes DIR/report.html.")
     p.add_argument("--out", default="arealaw-demo", metavar="DIR",
                    help="output folder (default: arealaw-demo)")
     p.add_argument("--save-scenario", metavar="FILE",
@@ -164,15 +168,21 @@ def _flat(row):
                                    "error_bound")}
     for k, v in (row.get("renyi") or {}).items():
         out[f"renyi_{k}"] = v
+    for k, v in (row.get("renyi_stderr") or {}).items():
+        out[f"renyi_{k}_stderr"] = v
     for k in ("mutual_information", "mutual_information_error_bound", "boundary_bonds",
-              "seconds", "computed_at", "run_id", "version"):
+              "seconds", "computed_at", "run_id", "version", "realisations", "entropy_stderr",
+              "mutual_information_stderr"):
         out[k] = row.get(k)
     return out
 
 
 def cmd_results(args):
+    from ..workflow._ensembles import average_realisations
     with _store(args.store) as store:
         rows = store.rows(args.family)
+    if not args.each:
+        rows = average_realisations(rows)
     if args.json:
         print_json([{k: v for k, v in r.items() if k != "spec"} for r in rows])
         return 0
@@ -188,31 +198,42 @@ def cmd_results(args):
     if not rows:
         print(f"store {args.store}: no results")
         return 0
+    ensembles = any(r.get("realisations") for r in flat)
     print(f"{'case':16}  {'family':14}  {'label':16}  {'sites':>6}  {'entropy':>14}  "
-          f"{'error':>8}  method")
+          f"{'error':>8}  " + ("   n  std.err   " if ensembles else "") + "method")
     for r in flat:
+        mean = (f"{r['realisations'] or 1:>4}  {r['entropy_stderr'] or 0.0:>8.2g}  "
+                if ensembles else "")
+        entropy = "n/a" if r["entropy"] is None else f"{r['entropy']:.10g}"
         print(f"{r['case']:16}  {r['family'][:14]:14}  {r['label'][:16]:16}  "
-              f"{r['region_sites']:>6}  {r['entropy']:>14.10g}  {r['error_bound']:>8.2g}  "
-              f"{r['method']}")
+              f"{r['region_sites']:>6}  {entropy:>14}  {r['error_bound']:>8.2g}  "
+              f"{mean}{r['method']}")
     return 0
 
 
 def _fits(args, store):
+    from ..views._report import fit_groups, group_name, pair_groups
+    from ..workflow._decay import fit_decay_rows
     from ..workflow._fits import fit_rows
-    from ..views._report import fit_groups, group_name
     rows = store.rows(getattr(args, "family", None))
     if not rows:
         what = f"family {args.family!r}" if getattr(args, "family", None) else "anything"
         raise ValueError(f"store {args.store!r} holds no results for {what}; see "
                          f"arealaw results --store {args.store}")
     groups = fit_groups(rows)
-    if not groups:
+    pairs = pair_groups(rows) if args.measure == "entropy" else {}
+    if not groups and not pairs:
         raise ValueError("no family with a swept region size to fit (e.g. ball = {from = 2, "
-                         "to = 6})")
+                         "to = 6}) and no pair with 3 or more separations")
     return [(group_name(k), fit_rows(g, measure=args.measure, powers=args.power,
                                      endpoints=args.endpoints,
                                      size=_size(args.size, g[0]["dim"])), g)
-            for k, g in groups.items()]
+            for k, g in groups.items()] + [(group_name(k), fit_decay_rows(g), g)
+                                           for k, g in pairs.items()]
+
+
+def _fit_measure(fit, measure):
+    return "mutual_information" if fit.size == "separation" else measure
 
 
 def _size(size, dim):
@@ -244,7 +265,7 @@ def cmd_fit(args):
     with _store(args.store) as store:
         fits = _fits(args, store)
     if args.json:
-        print_json([{"family": name, "measure": args.measure, **fit.to_dict()}
+        print_json([{"family": name, "measure": _fit_measure(fit, args.measure), **fit.to_dict()}
                     for name, fit, _ in fits])
         return 0
     for name, fit, _ in fits:
@@ -260,15 +281,18 @@ def _slug(name):
 
 
 def cmd_plot(args):
-    from ..views._plots import energies_figure, figure_png, scaling_figure
+    from ..views._plots import decay_figure, energies_figure, figure_png, scaling_figure
     out = Path(args.out)
     out.mkdir(parents=True, exist_ok=True)
     written = []
     with _store(args.store) as store:
         for name, fit, rows in _fits(args, store):
             path = out / f"{_slug(name)}_fit.png"
-            figure_png(scaling_figure(fit, title=name, measure=args.measure), path)
+            figure_png(decay_figure(fit, title=name) if fit.size == "separation"
+                       else scaling_figure(fit, title=name, measure=args.measure), path)
             written.append(path)
+            if fit.size == "separation":
+                continue
             largest = max(rows, key=lambda r: r["x"])
             if largest.get("entanglement_energies"):
                 path = out / f"{_slug(name)}_energies.png"
@@ -317,8 +341,9 @@ def demo_scenario_text():
 
 
 def cmd_demo(args):
+    from ..views._report import fit_groups, pair_groups, write_report
+    from ..workflow._decay import fit_decay_rows
     from ..workflow._fits import fit_rows
-    from ..views._report import fit_groups, write_report
     from ..workflow._scenario import parse_scenario
     text = demo_scenario_text()
     if args.save_scenario:
@@ -336,6 +361,12 @@ def cmd_demo(args):
         for key, rows in fit_groups(store.rows()).items():
             fit = fit_rows(rows, size="bonds")
             print(f"{key[0]}: {fit.law}, R = (boundary bonds)^(1/2): " + ", ".join(
+                f"{n} = {v:.5g} ± {e:.2g}" for n, v, e in
+                zip(fit.names, fit.coefficients, fit.stderr)))
+            print(f"  {fit.assessment}" + (f"\n  WARNING: {fit.warning}" if fit.warning else ""))
+        for key, rows in pair_groups(store.rows()).items():
+            fit = fit_decay_rows(rows)
+            print(f"{key[0]}: {fit.law}: " + ", ".join(
                 f"{n} = {v:.5g} ± {e:.2g}" for n, v, e in
                 zip(fit.names, fit.coefficients, fit.stderr)))
             print(f"  {fit.assessment}" + (f"\n  WARNING: {fit.warning}" if fit.warning else ""))

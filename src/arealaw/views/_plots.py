@@ -12,7 +12,7 @@ import io
 import numpy as np
 from matplotlib.figure import Figure
 
-__all__ = ["energies_figure", "entangled_modes", "figure_png", "mode_figure", "region_figure",
+__all__ = ["decay_figure", "energies_figure", "entangled_modes", "figure_png", "mode_figure", "region_figure",
            "scaling_figure"]
 
 
@@ -61,6 +61,38 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     axr.errorbar(x, fit.residuals, yerr=fit.sigma, fmt="o", ms=3)
     axr.set_ylabel("residual")
     axr.set_xlabel(xlabel)
+    return fig
+
+
+def decay_figure(fit, *, title=""):
+    """Mutual information against separation on log-log axes with the fitted power law, and the
+    residuals relative to the fit.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from arealaw.workflow._decay import fit_decay
+    >>> r = np.array([3.0, 4.0, 6.0, 9.0])
+    >>> len(decay_figure(fit_decay(r, 0.2 * r**-3.0)).axes)
+    2
+    """
+    fig = Figure(figsize=(6.4, 6.0))
+    ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
+    r = fit.sizes
+    grid = np.geomspace(r.min(), r.max(), 200)
+    ax.errorbar(r, fit.values, yerr=fit.sigma, fmt="o", ms=4, label="I(A:B)")
+    ax.plot(grid, fit.predict(grid), "-", lw=1.2,
+            label=f"{fit.law}: p = {fit['p']:.4g} ± {fit.error('p'):.2g}")
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_ylabel("mutual information I(A:B)")
+    ax.legend(loc="best", fontsize=8)
+    ax.set_title(title or fit.law, fontsize=10)
+    axr.axhline(0.0, color="0.5", lw=0.8)
+    pred = fit.predict(r)
+    axr.errorbar(r, fit.residuals / pred, yerr=fit.sigma / pred, fmt="o", ms=3)
+    axr.set_ylabel("(I − fit) / fit")
+    axr.set_xlabel("separation r of the centres (lattice units)")
     return fig
 
 

@@ -5,11 +5,12 @@ import datetime
 import html
 import math
 
+from ..workflow._ensembles import split_seed
 from ..workflow._fits import fit_rows
 from ._plots import energies_figure, figure_png, mode_figure, region_figure, scaling_figure
 from ..network._specs import network_from_spec, region_from_spec
 
-__all__ = ["fit_groups", "write_report"]
+__all__ = ["fit_groups", "pair_groups", "write_report"]
 
 STYLE = """body{font-family:sans-serif;max-width:60em;margin:2em auto;color:#222}
 table{border-collapse:collapse;margin:1em 0;font-size:90%}td,th{border:1px solid #bbb;
@@ -17,15 +18,29 @@ padding:.2em .6em;text-align:right}th{background:#eee}img{max-width:100%}
 .note{color:#555;font-size:90%}.warning{color:#a00}"""
 
 
+def _variant(row):
+    label, _ = split_seed(row["label"])
+    return label.split(" | ", 1)[1] if " | " in label else ""
+
+
 def fit_groups(rows):
-    """Rows of a store grouped for fitting: {(family, lattice variant): [rows]} (swept sizes)."""
+    """Rows of a store grouped for fitting: {(family, lattice variant): [rows]} (swept sizes;
+    the realisations of an ensemble stay in their group, to be averaged by the fit)."""
     groups = {}
     for r in rows:
         if r.get("x") is None or r.get("mutual_information") is not None:
             continue
-        variant = r["label"].split(" | ", 1)[1] if " | " in r["label"] else ""
-        groups.setdefault((r["family"], variant), []).append(r)
+        groups.setdefault((r["family"], _variant(r)), []).append(r)
     return groups
+
+
+def pair_groups(rows):
+    """Pairs grouped like :func:`fit_groups`, keeping groups with 3 or more separations."""
+    groups = {}
+    for r in rows:
+        if r.get("x") is not None and r.get("mutual_information") is not None:
+            groups.setdefault((r["family"], _variant(r)), []).append(r)
+    return {k: g for k, g in groups.items() if len({r["x"] for r in g}) >= 3}
 
 
 def group_name(key):

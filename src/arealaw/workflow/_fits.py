@@ -31,6 +31,8 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import stats
 
+from ._ensembles import average_realisations, ensemble_sigma
+
 __all__ = ["FitResult", "chord_length", "fit_rows", "fit_scaling"]
 
 #: Error bounds below this (relative to max(|S|, 1)) are raised to it: no point gets infinite
@@ -334,7 +336,9 @@ def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_d
     """Fit stored sweep rows (dicts with ``x``, ``dim`` and the measure) of one family.
 
     ``measure`` is ``'entropy'`` or ``'renyi:N'`` (e.g. ``'renyi:2'``); the error bounds stored
-    with each value are the weights.  ``size='x'`` fits against the swept value (ball radius,
+    with each value are the weights.  Disorder ensembles (a swept seed) are averaged first
+    (:func:`~arealaw.workflow._ensembles.average_realisations`): their weights are the mean
+    bound and the standard error of the mean in quadrature.  ``size='x'`` fits against the swept value (ball radius,
     box side); ``size='bonds'`` (d ≥ 2) against the area-equivalent size R = B^{1/(d−1)} of the
     number B of couplings cut by the region's boundary, so that the area coefficient is the
     entropy per cut bond (lattice balls have jagged surfaces; B follows them exactly).  The
@@ -345,7 +349,7 @@ def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_d
     """
     if size not in ("x", "bonds", "chord"):
         raise ValueError(f"size={size!r} is not known; allowed: x (swept value), bonds, chord")
-    pts = [r for r in rows if r.get("x") is not None]
+    pts = [r for r in average_realisations(rows) if r.get("x") is not None]
     if not pts:
         raise ValueError("this family has no swept size (x); fits need a family with a swept "
                          "region size such as ball = {from = 2, to = 6}")
@@ -355,7 +359,7 @@ def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_d
                          "time")
     if measure == "entropy":
         vals = [r["entropy"] for r in pts]
-        errs = [r["error_bound"] for r in pts]
+        errs = [ensemble_sigma(r["error_bound"], r.get("entropy_stderr")) for r in pts]
     elif measure.startswith("renyi:"):
         order = measure.split(":", 1)[1]
         if any(order not in r["renyi"] for r in pts):
@@ -363,7 +367,8 @@ def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_d
             raise ValueError(f"measure {measure!r} was not computed; stored Rényi orders: "
                              f"{', '.join(have) if have else 'none'}")
         vals = [r["renyi"][order] for r in pts]
-        errs = [r["renyi_error_bound"][order] for r in pts]
+        errs = [ensemble_sigma(r["renyi_error_bound"][order],
+                               (r.get("renyi_stderr") or {}).get(order)) for r in pts]
     else:
         raise ValueError(f"measure {measure!r} is not known; allowed: entropy, renyi:N")
     dim = dims.pop()

@@ -2,10 +2,28 @@
 
 A scenario names its lattices, the region families to sweep on them, optional region pairs for
 mutual information, and the numerics.  Lattice and region tables use exactly the keys of
-:func:`arealaw.network._specs.network_from_spec` / ``region_from_spec`` (the keys of ``arealaw entropy``).
-Any lattice or region value may be a *sweep table* instead of a value:
-``{from = 2, to = 6, step = 1}`` (inclusive) or ``{values = [0.1, 0.2]}``; families expand
-into the Cartesian product of their sweeps.  For ``box`` a swept number n means an n×…×n box.
+:func:`arealaw.network._specs.network_from_spec` / ``region_from_spec`` (the keys of ``arealaw
+entropy``); a radial lattice (Srednicki's partial waves) is ``radial = N`` (+ ``dim``, ``mass``)
+with the region ``shells = n``.  Relative file names (``out``, ``potential``, ``kinetic``,
+``sites``, ``mask``) are taken relative to the scenario file's folder.
+
+What a family sweeps:
+
+* any lattice or region value may be a *sweep table* instead of a value: ``{from = 2, to = 6,
+  step = 1}`` (inclusive) or ``{values = [0.1, 0.2]}``; the sweeps of a family (its own keys,
+  the keys of its lattice table, which it may also override, and its ``vars``) expand into
+  their Cartesian product.  For ``box`` a swept number n means an n×…×n box;
+* ``vars = {N = {values = [20, 40]}}`` declares swept (or fixed) variables that only serve
+  expressions;
+* a value written ``"= expression"`` is computed from the swept values (safe arithmetic, see
+  :mod:`arealaw.workflow._expressions`), e.g. ``shape = ["= N"]`` and ``box = ["= N // 2"]``;
+* ``tied = ["shape", "box"]`` (or a list of such lists) sweeps the named keys together, value
+  by value, instead of as a product (their sweeps must have equal lengths);
+* ``size = "= N // 2"`` is the fit's size variable; by default the first swept variable or
+  region key, and for a pair the distance between the centres of A and B (``separation``;
+  ``gap`` is the smallest site-to-site distance, both in lattice units);
+* a swept ``seed`` (of disorder) is an *ensemble*, never a size: every realisation is stored,
+  and results, fits and the report average over realisations with standard errors.
 
 Layout::
 
@@ -25,8 +43,9 @@ Layout::
     ball = {from = 2, to = 5, step = 0.5}
     [[pair]]
     name = "two boxes"
+    vars = {d = {from = 4, to = 8}}
     a = {box = [2, 2, 2], origin = [1, 5, 5]}
-    b = {box = [2, 2, 2], origin = [7, 5, 5]}
+    b = {box = [2, 2, 2], origin = ["= 1 + d", 5, 5]}
 """
 
 import hashlib
@@ -41,22 +60,43 @@ from pathlib import Path
 import numpy as np
 
 from .._numerics import DEFAULT_TOL, check_tol
-from ..spectrum._measures import normalize_order, order_label
+from ..methods import RadialLattice, radial_lattice, shells
 from ..methods._registry import method_names
-from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, network_from_spec, \
-    region_from_spec
+from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, \
+    network_from_spec, region_from_spec
+from ..spectrum._measures import normalize_order, order_label
+from ._expressions import evaluate, expression_names, is_expression
 
 if sys.version_info >= (3, 11):
     import tomllib
 else:  # pragma: no cover
     import tomli as tomllib
 
-__all__ = ["Case", "Scenario", "case_hash", "load_scenario", "parse_scenario"]
+__all__ = ["Case", "Scenario", "build_network", "build_region", "case_hash", "load_scenario",
+           "parse_scenario", "region_separation"]
 
 TOP_KEYS = ("title", "out", "numerics", "lattices", "family", "pair")
 NUMERICS_KEYS = ("method", "tol", "renyi", "energies")
-FAMILY_KEYS = ("name", "lattice") + NUMERICS_KEYS
-PAIR_KEYS = ("name", "lattice", "a", "b") + NUMERICS_KEYS
+#: Keys of measures not yet computed by sweeps: refused with this reason (a hook for thermal
+#: states and negativity, which ``entropy()`` will take as options).
+PLANNED_KEYS = {
+    "temperature": "thermal states are not yet available in scenarios (ground states only)",
+    "negativity": "the logarithmic negativity is not yet available in scenarios; use "
+                  "arealaw entropy --negativity for one pair",
+}
+SWEEP_CONTROL_KEYS = ("size", "tied", "vars")
+FAMILY_KEYS = ("name", "lattice") + SWEEP_CONTROL_KEYS + NUMERICS_KEYS
+PAIR_KEYS = ("name", "lattice", "a", "b") + SWEEP_CONTROL_KEYS + NUMERICS_KEYS
+#: The radial lattice of Srednicki's partial waves: ``radial = N`` sites, ``dim``, ``mass``;
+#: its regions are ``shells = n``.
+RADIAL_KEYS = ("radial", "dim", "mass")
+RADIAL_REGION = "shells"
+SCENARIO_LATTICE_KEYS = LATTICE_KEYS + MATRIX_KEYS + ("radial", "dim")
+SCENARIO_REGION_KEYS = REGION_KINDS + (RADIAL_REGION,)
+#: Keys holding file names: relative names resolve against the scenario file's folder.
+PATH_KEYS = ("potential", "kinetic", "sites", "mask")
+#: The key whose sweep is an ensemble of disorder realisations.
+ENSEMBLE_KEY = "seed"
 SWEEP_KEYS = ("from", "to", "step", "values")
 MAX_CASES = 100000
 
@@ -168,7 +208,7 @@ class _Where:
 
     def error(self, msg, key=None, header=None, nth=0):
         ln = self.line(key, header, nth)
-        where = f"{self.source}, line {ln}: " if ln else (f"{self.source}: " if self.source
+        where = f"{self.source or 'scenario'}, line {ln}: " if ln else (f"{self.source}: " if self.source
                                                           else "")
         return ValueError(where + msg)
 
@@ -186,11 +226,14 @@ def load_scenario(path):
     p = Path(path)
     if not p.is_file():
         raise ValueError(f"scenario file {str(path)!r} does not exist")
-    return parse_scenario(p.read_text(encoding="utf-8"), source=str(p))
+    return parse_scenario(p.read_text(encoding="utf-8"), source=str(p), base=p.resolve().parent)
 
 
-def parse_scenario(text, *, source=""):
+def parse_scenario(text, *, source="", base=None):
     """Parse and validate scenario TOML text into a :class:`Scenario` (see module docstring).
+
+    ``base`` is the folder that relative file names (``out``, matrix, site and mask files) are
+    taken against; None leaves them relative to the current directory.
 
     Examples
     --------
@@ -224,28 +267,33 @@ def parse_scenario(text, *, source=""):
     if not isinstance(lattices, dict) or not lattices:
         raise w.error("no lattice given: add a table [lattices.NAME] with shape = [...] "
                       "(and mass, boundary, ...)")
-    nets = {}
     for name, spec in lattices.items():
         header = f"lattices.{name}"
         if not isinstance(spec, dict):
             raise w.error(f"lattices.{name} must be a table of lattice keys", name)
-        unknown = sorted(set(spec) - set(LATTICE_KEYS) - set(MATRIX_KEYS))
+        for key in spec:
+            if key in PLANNED_KEYS:
+                raise w.error(f"{key}: {PLANNED_KEYS[key]}", key, header)
+        unknown = sorted(set(spec) - set(SCENARIO_LATTICE_KEYS))
         if unknown:
             raise w.error(f"unknown lattice key {unknown[0]!r} in [{header}]; allowed: "
-                          f"{', '.join(LATTICE_KEYS + MATRIX_KEYS)}", unknown[0], header)
-        nets[name] = [(vals, _check_network(vals, w, header))
-                      for vals, _ in _expand(spec, w, header)]
+                          f"{', '.join(SCENARIO_LATTICE_KEYS)}", unknown[0], header)
     families, pairs = data.get("family", []), data.get("pair", [])
     if not isinstance(families, list) or not isinstance(pairs, list):
         raise w.error("family and pair must be arrays of tables: write [[family]] / [[pair]]")
     if not families and not pairs:
         raise w.error("nothing to compute: add a [[family]] (e.g. ball = {from = 2, to = 6}) "
                       "or a [[pair]]")
-    cases = []
+    base = None if base is None else Path(base)
+    if base is not None and not Path(out).is_absolute():
+        out = str(base / out)
+    cases, networks = [], {}
     for i, fam in enumerate(families):
-        cases += _family_cases(fam, i, "family", nets, defaults, w)
+        cases += _family_cases(fam, i, "family", lattices, defaults, w, base, networks)
     for i, pair in enumerate(pairs):
-        cases += _family_cases(pair, i, "pair", nets, defaults, w)
+        cases += _family_cases(pair, i, "pair", lattices, defaults, w, base, networks)
+    if len(cases) > MAX_CASES:
+        raise w.error(f"the scenario expands into {len(cases)} cases; at most {MAX_CASES}")
     keys = {}
     for c in cases:
         if c.key in keys:
@@ -260,6 +308,8 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
         raise w.error(f"{header} must be a table with keys {', '.join(allowed)}", header)
     out = dict(base)
     for key, val in spec.items():
+        if key in PLANNED_KEYS:
+            raise w.error(f"{key}: {PLANNED_KEYS[key]}", key, header, nth)
         if key not in NUMERICS_KEYS:
             if key in allowed:
                 continue
@@ -284,6 +334,70 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
                               key, header, nth) from None
         out[key] = float(val) if key == "tol" else val
     return out
+
+
+
+
+def build_network(spec):
+    """The network of a case's lattice spec: a radial lattice (``radial`` key) or
+    :func:`~arealaw.network._specs.network_from_spec`.
+
+    Examples
+    --------
+    >>> build_network({"radial": 30, "dim": 3, "mass": 0.0})
+    RadialLattice(N=30, d=3, m=0, Dirichlet wall at N+1)
+    """
+    if "radial" in spec:
+        extra = sorted(set(spec) - set(RADIAL_KEYS))
+        if extra:
+            raise ValueError(f"{extra[0]!r} does not go with a radial lattice; allowed: "
+                             f"{', '.join(RADIAL_KEYS)}")
+        return radial_lattice(spec["radial"], dim=spec.get("dim", 3),
+                              mass=spec.get("mass", 0.0))
+    if "dim" in spec:
+        raise ValueError("dim belongs to the radial lattice; add radial = N (radial sites)")
+    return network_from_spec(spec)
+
+
+def build_region(network, spec):
+    """The region of a case's region spec (``shells = n`` on a radial lattice)."""
+    if RADIAL_REGION in spec:
+        extra = sorted(set(spec) - {RADIAL_REGION})
+        if extra:
+            raise ValueError(f"{extra[0]!r} does not go with shells; a radial region is "
+                             "shells = n alone")
+        n = spec[RADIAL_REGION]
+        if isinstance(n, float) and n.is_integer():
+            n = int(n)
+        return shells(network, n)
+    if isinstance(network, RadialLattice):
+        raise ValueError("a radial lattice takes the region shells = n (the first n radial "
+                         "sites)")
+    return region_from_spec(network, spec)
+
+
+def region_separation(network, region_a, region_b):
+    """(separation, gap): the distance between the centres of the two regions and the smallest
+    site-to-site distance, in the lattice's site coordinates (lattice units, no wrap-around on
+    periodic axes); (None, None) when the network has no coordinates.
+
+    Examples
+    --------
+    >>> net = network_from_spec({"shape": [40], "mass": 0.1})
+    >>> a = region_from_spec(net, {"box": [4], "origin": [2]})
+    >>> b = region_from_spec(net, {"box": [4], "origin": [12]})
+    >>> region_separation(net, a, b)
+    (10.0, 7.0)
+    """
+    from scipy.spatial import cKDTree
+    try:
+        ca = np.asarray(network.coords(region_a.indices), float)
+        cb = np.asarray(network.coords(region_b.indices), float)
+    except ValueError:
+        return None, None
+    centre = float(np.linalg.norm(ca.mean(axis=0) - cb.mean(axis=0)))
+    gap = float(cKDTree(ca).query(cb, k=1)[0].min())
+    return centre, gap
 
 
 def _sweep_values(key, val, w, header, nth):
@@ -313,40 +427,268 @@ def _sweep_values(key, val, w, header, nth):
     return [round(v, 12) for v in vals]
 
 
-def _expand(spec, w, header, nth=0):
-    """Cartesian product over the sweep tables of ``spec``: [(values dict, swept dict), ...]."""
-    fixed, swept = {}, {}
-    for key, val in spec.items():
-        if isinstance(val, dict) and key not in ("a", "b"):
-            swept[key] = _sweep_values(key, val, w, header, nth)
-        else:
-            fixed[key] = val
-    combos = []
-    for vals in itertools.product(*swept.values()):
-        point = dict(zip(swept, vals))
-        combos.append(({**fixed, **point}, point))
-    return combos
+@dataclass
+class _Entry:
+    """One key of a family after merging its lattice table: where it goes and how it varies."""
+
+    name: str          # the name in labels, ``tied`` and expressions ("b.origin" inside a pair)
+    where: str         # "var", "region", "a", "b", "override" (family lattice key), "lattice"
+    key: str           # the key inside its spec
+    raw: object
+    values: list = None  # a sweep's values; None for a fixed value or an expression
+
+    @property
+    def is_expression(self):
+        return is_expression(self.raw) or (isinstance(self.raw, list)
+                                           and any(is_expression(v) for v in self.raw))
 
 
-def _check_network(spec, w, header):
+def _fill(entry, names, w, header, nth):
+    """The value of an expression entry (an expression, or a list holding some)."""
     try:
-        return network_from_spec(spec)
+        if isinstance(entry.raw, list):
+            return [evaluate(v, names) if is_expression(v) else v for v in entry.raw]
+        return evaluate(entry.raw, names)
+    except ValueError as exc:
+        raise w.error(f"{entry.name} = {entry.raw!r}: {exc}", entry.key, header, nth) from None
+
+
+def _entries(fam, kind, lattice_spec, w, header, nth, name):
+    """The family's keys (vars, region keys or a/b, lattice overrides, lattice table)."""
+    region_keys = set(SCENARIO_REGION_KEYS) | {k for v in REGION_OPTIONS.values() for k in v}
+    allowed = PAIR_KEYS if kind == "pair" else FAMILY_KEYS
+    for key in fam:
+        if key in PLANNED_KEYS:
+            raise w.error(f"{key}: {PLANNED_KEYS[key]}", key, header, nth)
+        if key in allowed or key in SCENARIO_LATTICE_KEYS or (kind == "family"
+                                                                and key in region_keys):
+            continue
+        if kind == "pair":
+            raise w.error(f"[[pair]] {name!r}: key {key!r} is not allowed; allowed: "
+                          f"{', '.join(PAIR_KEYS)} (a and b are region tables) or a lattice "
+                          "key", key, header, nth)
+        raise w.error(f"unknown key {key!r} in [[family]] {name!r}; allowed: "
+                      f"{', '.join(FAMILY_KEYS + SCENARIO_REGION_KEYS)}, origin, center, or a "
+                      "lattice key", key, header, nth)
+    if kind == "pair" and ("a" not in fam or "b" not in fam):
+        bad = "a" if "a" not in fam else "b"
+        raise w.error(f"[[pair]] {name!r}: key {bad!r} is missing; allowed: "
+                      f"{', '.join(PAIR_KEYS)} (a and b are region tables)", None, header, nth)
+    entries = []
+    variables = fam.get("vars", {})
+    if not isinstance(variables, dict):
+        raise w.error(f"vars = {variables!r} must be a table of names, e.g. vars = {{N = "
+                      "{values = [20, 40]}}", "vars", header, nth)
+    for key, val in variables.items():
+        if not key.isidentifier() or key in SCENARIO_LATTICE_KEYS or key in region_keys:
+            raise w.error(f"vars: {key!r} must be a plain name that is not a lattice or region "
+                          "key", "vars", header, nth)
+        entries.append(_Entry(key, "var", key, val))
+    if kind == "pair":
+        for side in "ab":
+            if not isinstance(fam[side], dict):
+                raise w.error(f"{side} = {fam[side]!r} must be a region table, e.g. "
+                              "{box = [2, 2], origin = [0, 0]}", side, header, nth)
+            entries += [_Entry(f"{side}.{k}", side, k, v) for k, v in fam[side].items()]
+    else:
+        entries += [_Entry(k, "region", k, v) for k, v in fam.items() if k in region_keys]
+    entries += [_Entry(k, "override", k, v) for k, v in fam.items() if k in SCENARIO_LATTICE_KEYS]
+    entries += [_Entry(k, "lattice", k, v) for k, v in lattice_spec.items() if k not in fam]
+    return entries
+
+
+def _axes(entries, tied, w, header, nth):
+    """Groups of entries swept together: each tied group is one axis, every other sweep its
+    own; the ensemble key comes last."""
+    swept = {e.name: e for e in entries if e.values is not None}
+    if isinstance(tied, list) and tied and all(isinstance(t, str) for t in tied):
+        tied = [tied]
+    if not isinstance(tied, list) or not all(isinstance(g, list) and len(g) >= 2
+                                             and all(isinstance(n, str) for n in g)
+                                             for g in tied):
+        raise w.error(f"tied = {tied!r} must list two or more swept keys, e.g. tied = "
+                      "[\"shape\", \"box\"], or a list of such lists", "tied", header, nth)
+    group_of = {}
+    for g in tied:
+        for n in g:
+            if n not in swept:
+                raise w.error(f"tied: {n!r} is not swept in this family; swept: "
+                              f"{', '.join(swept) or 'nothing'}", "tied", header, nth)
+            if n == ENSEMBLE_KEY:
+                raise w.error("tied: seed sweeps an ensemble of disorder realisations and "
+                              "cannot be tied to another key", "tied", header, nth)
+            if n in group_of:
+                raise w.error(f"tied: {n!r} appears in two groups", "tied", header, nth)
+            group_of[n] = tuple(g)
+        lengths = {n: len(swept[n].values) for n in g}
+        if len(set(lengths.values())) != 1:
+            raise w.error("tied keys must sweep the same number of values; got "
+                          + ", ".join(f"{n}: {k}" for n, k in lengths.items()), "tied", header,
+                          nth)
+    axes, seen = [], set()
+    for e in entries:
+        if e.values is None or e.name in seen:
+            continue
+        group = group_of.get(e.name, (e.name,))
+        seen.update(group)
+        axes.append([swept[n] for n in group])
+    axes.sort(key=lambda axis: axis[0].name == ENSEMBLE_KEY)
+    return axes
+
+
+def _size_axis(axes, size, kind):
+    """Index of the axis that holds the fit's size variable (None: no such axis)."""
+    if size is not None:
+        used = expression_names("=" + size.lstrip().lstrip("="))
+        geometric = kind == "pair" and bool(used & {"separation", "gap"})
+        return [i for i, axis in enumerate(axes)
+                if any(e.name in used or geometric and e.where in ("var", "a", "b")
+                       for e in axis)]
+    if kind == "pair":
+        return [i for i, axis in enumerate(axes) if any(e.where in ("var", "a", "b")
+                                                        for e in axis)]
+    for i, axis in enumerate(axes):
+        if any(e.where in ("var", "region") for e in axis) and axis[0].name != ENSEMBLE_KEY:
+            return [i]
+    return []
+
+
+def _resolve_paths(spec, base):
+    if base is None:
+        return spec
+    return {k: (str(base / v) if k in PATH_KEYS and isinstance(v, str)
+                and not Path(v).is_absolute() else v) for k, v in spec.items()}
+
+
+def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
+    header = kind
+    if not isinstance(fam, dict):
+        raise w.error(f"each [[{kind}]] must be a table", None, header, nth)
+    name = fam.get("name", f"{kind} {nth + 1}")
+    lattice = fam.get("lattice")
+    if lattice is None:
+        if len(lattices) != 1:
+            raise w.error(f"{kind} {name!r} must name its lattice (lattice = one of "
+                          f"{', '.join(map(repr, lattices))})", None, header, nth)
+        lattice = next(iter(lattices))
+    if lattice not in lattices:
+        raise w.error(f"lattice = {lattice!r} is not defined; allowed: "
+                      f"{', '.join(map(repr, lattices))}", "lattice", header, nth)
+    lat_header = f"lattices.{lattice}"
+    num = _numerics({k: v for k, v in fam.items() if k in NUMERICS_KEYS}, defaults, w, header,
+                    nth)
+    entries = _entries(fam, kind, lattices[lattice], w, header, nth, name)
+    lat_order = {k: i for i, k in enumerate(lattices[lattice])}
+
+    def where(entry):  # the table an entry was written in (for line numbers)
+        return (lat_header, 0) if entry.where == "lattice" else (header, nth)
+
+    for e in entries:
+        if isinstance(e.raw, dict):
+            e.values = _sweep_values(e.name, e.raw, w, *where(e))
+    size = fam.get("size")
+    if size is not None and not isinstance(size, str):
+        raise w.error(f"size = {size!r} must be an expression string, e.g. size = \"= N // 2\"",
+                      "size", header, nth)
+    axes = _axes(entries, fam.get("tied", []), w, header, nth)
+    total = math.prod(len(axis[0].values) for axis in axes)
+    if total > MAX_CASES:
+        raise w.error(f"{kind} {name!r} expands into {total} cases; at most {MAX_CASES}", None,
+                      header, nth)
+    x_axes = _size_axis(axes, size, kind)
+    fixed = {e.name: e.raw for e in entries if e.values is None and not e.is_expression}
+    cases = []
+    for combo in itertools.product(*[list(zip(*[e.values for e in axis])) for axis in axes]):
+        point = {e.name: v for axis, vals in zip(axes, combo) for e, v in zip(axis, vals)}
+        names = {k: v for k, v in {**fixed, **point}.items() if k.isidentifier()}
+        values = {}
+        for e in entries:
+            values[e.name] = (point[e.name] if e.values is not None
+                              else _fill(e, names, w, *where(e)) if e.is_expression
+                              else e.raw)
+        net_spec = _resolve_paths({e.key: values[e.name] for e in sorted(
+            (e for e in entries if e.where in ("override", "lattice")),
+            key=lambda e: lat_order.get(e.key, len(lat_order)))}, base)
+        network = _network_checked(net_spec, entries, networks, w, header, nth, lat_header)
+        if kind == "pair":
+            spec_a = _resolve_paths({e.key: values[e.name] for e in entries if e.where == "a"},
+                                    base)
+            spec_b = _resolve_paths({e.key: values[e.name] for e in entries if e.where == "b"},
+                                    base)
+            region, reg_a = _region_spec(spec_a, network, w, header, nth, "a")
+            region_b, reg_b = _region_spec(spec_b, network, w, header, nth, "b")
+            sep, gap = region_separation(network, reg_a, reg_b)
+            names.update({"separation": sep, "gap": gap} if sep is not None else {})
+            default_x = sep
+        else:
+            region, _ = _region_spec(_resolve_paths({e.key: values[e.name] for e in entries
+                                                     if e.where == "region"}, base),
+                                     network, w, header, nth)
+            region_b = None
+            first = next((e for i in x_axes for e in axes[i]
+                          if e.where in ("var", "region")), None)
+            default_x = point[first.name] if first is not None else None
+        if size is not None:
+            text = "=" + size.lstrip().lstrip("=")
+            try:
+                x = evaluate(text, names)
+            except ValueError as exc:
+                raise w.error(f"size = {size!r}: {exc}", "size", header, nth) from None
+        else:
+            x = default_x
+        if isinstance(x, bool) or not isinstance(x, (int, float)):
+            x = None
+        label = _label(axes, x_axes, point, kind)
+        cases.append(Case(network=_canon(net_spec), region=_canon(region),
+                          region_b=_canon(region_b) if region_b else None,
+                          renyi=list(num["renyi"]), energies=int(num["energies"]),
+                          method=num["method"], tol=float(num["tol"]), family=name,
+                          label=label, x=x, lattice=lattice))
+    return cases
+
+
+def _label(axes, x_axes, point, kind):
+    """``size keys | other keys, seed=K``: the part after `` | `` names the fit group."""
+    def show(axis):
+        return [f"{e.name}={_short(point[e.name])}" for e in axis]
+    first = [s for i in x_axes for s in show(axes[i])]
+    rest = [s for i, axis in enumerate(axes) if i not in x_axes for s in show(axis)]
+    label = ", ".join(first) or ("A:B" if kind == "pair" else "single")
+    return label + (" | " + ", ".join(rest) if rest else "")
+
+
+def _short(v):
+    return json.dumps(v, separators=(",", ":")) if isinstance(v, (list, dict)) else str(v)
+
+
+def _network_checked(spec, entries, cache, w, header, nth, lat_header):
+    key = json.dumps(spec, sort_keys=True, default=str)
+    if key in cache:
+        return cache[key]
+    try:
+        net = build_network(spec)
     except (ValueError, TypeError) as exc:
-        key = next((k for k in spec if repr(spec[k]) in str(exc) or k in str(exc)), None)
-        raise w.error(f"[{header}]: {exc}", key, header) from None
+        bad = next((e for e in entries if e.where in ("override", "lattice")
+                    and (repr(e.raw) in str(exc) or e.key in str(exc))), None)
+        hdr, n = (lat_header, 0) if bad is None or bad.where == "lattice" else (header, nth)
+        raise w.error(f"[{hdr}]: {exc}", bad.key if bad else None, hdr, n) from None
+    cache[key] = net
+    while len(cache) > 64:  # keep memory flat for large ensembles
+        cache.pop(next(iter(cache)))
+    return net
 
 
 def _region_spec(spec, network, w, header, nth, key=None):
     spec = dict(spec)
     if isinstance(spec.get("box"), (int, float)) and not isinstance(spec.get("box"), bool):
         spec["box"] = [int(spec["box"])] * network.ndim
-    kinds = [k for k in REGION_KINDS if k in spec]
+    kinds = [k for k in SCENARIO_REGION_KEYS if k in spec]
     if len(kinds) != 1:
         raise w.error(f"{'region ' + key if key else header} needs exactly one region kind; "
-                      f"allowed: {', '.join(REGION_KINDS)}; got "
+                      f"allowed: {', '.join(SCENARIO_REGION_KEYS)}; got "
                       f"{', '.join(kinds) if kinds else 'none'}", key, header, nth)
     try:
-        region = region_from_spec(network, spec)
+        region = build_region(network, spec)
     except (ValueError, TypeError) as exc:
         given = ", ".join(f"{k} = {v!r}" for k, v in spec.items())
         raise w.error(f"{'region ' + key if key else header}: {exc} (given: {given})",
@@ -354,75 +696,7 @@ def _region_spec(spec, network, w, header, nth, key=None):
     if region.size == 0:
         raise w.error(f"region {spec!r} holds no site of the lattice; make it larger or move it",
                       key or kinds[0], header, nth)
-    return spec
-
-
-def _family_cases(fam, nth, kind, nets, defaults, w):
-    header = kind
-    if not isinstance(fam, dict):
-        raise w.error(f"each [[{kind}]] must be a table", None, header, nth)
-    name = fam.get("name", f"{kind} {nth + 1}")
-    lattice = fam.get("lattice")
-    if lattice is None:
-        if len(nets) != 1:
-            raise w.error(f"{kind} {name!r} must name its lattice (lattice = one of "
-                          f"{', '.join(map(repr, nets))})", None, header, nth)
-        lattice = next(iter(nets))
-    if lattice not in nets:
-        raise w.error(f"lattice = {lattice!r} is not defined; allowed: "
-                      f"{', '.join(map(repr, nets))}", "lattice", header, nth)
-    allowed = (PAIR_KEYS if kind == "pair" else FAMILY_KEYS)
-    region_keys = set(REGION_KINDS) | {k for v in REGION_OPTIONS.values() for k in v}
-    rest = {k: v for k, v in fam.items() if k not in allowed}
-    if kind == "pair":
-        if "a" not in fam or "b" not in fam or rest:
-            bad = sorted(rest)[0] if rest else ("a" if "a" not in fam else "b")
-            raise w.error(f"[[pair]] {name!r}: key {bad!r} is missing or not allowed; allowed: "
-                          f"{', '.join(PAIR_KEYS)} (a and b are region tables)", bad, header,
-                          nth)
-    else:
-        unknown = sorted(set(rest) - region_keys)
-        if unknown:
-            raise w.error(f"unknown key {unknown[0]!r} in [[family]] {name!r}; allowed: "
-                          f"{', '.join(FAMILY_KEYS + REGION_KINDS)}, origin, center",
-                          unknown[0], header, nth)
-    num = _numerics({k: v for k, v in fam.items() if k in NUMERICS_KEYS}, defaults, w, header,
-                    nth)
-    cases = []
-    for net_spec, network in nets[lattice]:
-        for spec, point in _expand(rest if kind == "family" else {k: fam[k] for k in "ab"},
-                                   w, header, nth):
-            if kind == "pair":
-                for side in "ab":
-                    if not isinstance(spec[side], dict):
-                        raise w.error(f"{side} = {spec[side]!r} must be a region table, e.g. "
-                                      "{box = [2, 2], origin = [0, 0]}", side, header, nth)
-                region = _region_spec(spec["a"], network, w, header, nth, "a")
-                region_b = _region_spec(spec["b"], network, w, header, nth, "b")
-                x, label = None, "A:B"
-            else:
-                region = _region_spec(spec, network, w, header, nth)
-                region_b = None
-                x = next(iter(point.values())) if point else None
-                label = ", ".join(f"{k}={v}" for k, v in point.items()) or "single"
-            lat_point = {k: v for k, v in net_spec.items()
-                         if len(nets[lattice]) > 1 and k in _swept_keys(nets[lattice])}
-            if lat_point:
-                label += " | " + ", ".join(f"{k}={v}" for k, v in lat_point.items())
-            cases.append(Case(network=_canon(net_spec), region=_canon(region),
-                              region_b=_canon(region_b) if region_b else None,
-                              renyi=list(num["renyi"]), energies=int(num["energies"]),
-                              method=num["method"], tol=float(num["tol"]), family=name,
-                              label=label, x=x, lattice=lattice))
-    return cases
-
-
-def _swept_keys(variants):
-    keys = set()
-    first = variants[0][0]
-    for spec, _ in variants[1:]:
-        keys |= {k for k in spec if spec[k] != first.get(k)}
-    return keys
+    return spec, region
 
 
 def _canon(spec):

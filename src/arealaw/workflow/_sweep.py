@@ -16,7 +16,7 @@ from threadpoolctl import threadpool_limits
 
 from .._entropy import entropy
 from ..network._regions import cut_couplings
-from ..network._specs import network_from_spec, region_from_spec
+from ._scenario import build_network, build_region
 
 __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]
 
@@ -38,7 +38,7 @@ def _network(spec):
     if key in _networks:
         _networks.move_to_end(key)
         return _networks[key]
-    net = network_from_spec(spec)
+    net = build_network(spec)
     _networks[key] = net
     while len(_networks) > NETWORK_CACHE_SIZE:
         _networks.popitem(last=False)
@@ -58,8 +58,8 @@ def compute_case(case):
     """
     with threadpool_limits(limits=1):
         network = _network(case.network)
-        region = region_from_spec(network, case.region)
-        region_b = region_from_spec(network, case.region_b) if case.region_b else None
+        region = build_region(network, case.region)
+        region_b = build_region(network, case.region_b) if case.region_b else None
         res = entropy(network, region, region_b=region_b, renyi=case.renyi, method=case.method,
                       tol=case.tol, energies=case.energies)
         out = res.to_dict()
