@@ -88,11 +88,58 @@ def test_spectral_blocks_equal_dense_at_temperature(case, t):
     assert b.p_error < 1e-9 * max(1.0, float(np.abs(p).max()))
 
 
+@pytest.mark.parametrize("diagonal_m,engine", [(True, "multishift"), (True, "amg"),
+                                               (False, "amg")])
+@pytest.mark.parametrize("t", [0.05, 0.3, 2.0])
+def test_sparse_blocks_equal_dense_at_temperature(diagonal_m, engine, t):
+    from arealaw.correlators import SparseBackend
+    net = _random_network(50, 11, diagonal_m=diagonal_m)
+    rows, cols = np.arange(8, 20), np.arange(15, 31)
+    b = SparseBackend(engine=engine).blocks(net, rows, cols, tol=1e-10, temperature=t)
+    x, p, info = dense_correlators(net, temperature=t)
+    ex = float(np.linalg.norm(b.x - x[np.ix_(rows, cols)], 2))
+    ep = float(np.linalg.norm(b.p - p[np.ix_(rows, cols)], 2))
+    assert ex <= b.x_error + info["x_error"] and ep <= b.p_error + info["p_error"]
+    assert b.x_error < 1e-9 and b.p_error < 1e-9
+    assert b.info["temperature"] == t
+
+
+@pytest.mark.parametrize("t", [0.01, 0.1, 1.0, 10.0])
+def test_matsubara_rule_bound_holds_and_is_tight(t):
+    from arealaw.correlators.sparse._matsubara import matsubara_rule
+    rule = matsubara_rule(0.003, 25.0, t, tol=1e-9)
+    x = np.geomspace(0.003, 25.0, 3000)
+    w = np.sqrt(x)
+    exact = (1 + 2 / np.expm1(w / t)) / w
+    err = np.abs(rule(x) - exact)
+    assert err.max() <= rule.abs_error and np.abs(x * (rule(x) - exact)).max() <= rule.x_abs_error
+    assert rule.rel_error <= 1e-9
+    assert rule.abs_error <= 1e4 * max(err.max(), 1e-13)   # tight, not just small
+    # more poles at lower temperature: the Matsubara spacing 2πT shrinks
+    assert rule.n_nodes <= 3 + int(4 / t)
+
+
+def test_matsubara_rule_refuses_too_many_poles():
+    from arealaw.correlators.sparse._matsubara import matsubara_rule
+    with pytest.raises(ValueError, match="temperature=1e-05 needs"):
+        matsubara_rule(1e-4, 12.0, 1e-5, tol=1e-12, max_nodes=50)
+
+
+def test_sparse_assess_refuses_too_low_a_temperature_and_auto_goes_elsewhere():
+    net = al.hypercubic((12, 12), mass=0.3)
+    sparse = get_backend("sparse")
+    assert sparse.assess(net, 9, tol=1e-10, temperature=0.1).ok
+    a = sparse.assess(net, 9, tol=1e-10, temperature=1e-5)
+    assert not a.ok and "too low" in a.reason
+    with pytest.raises(UnsupportedMethodError, match="method='dense' can"):
+        al.entropy(net, al.box(net, 3), method="sparse", temperature=1e-5)
+
+
 def test_thermal_entropy_every_backend_within_its_bound():
     net = al.hypercubic((10, 9), mass=0.2)
     reg, reg_b = al.box(net, (3, 3), origin=(1, 1)), al.box(net, (3, 2), origin=(6, 5))
     ref = al.entropy(net, reg, region_b=reg_b, method="dense", temperature=0.3, renyi=[0.5])
-    for method in ("spectral",):
+    for method in ("spectral", "sparse"):
         r = al.entropy(net, reg, region_b=reg_b, method=method, temperature=0.3, renyi=[0.5])
         assert abs(r.entropy - ref.entropy) <= r.error_bound + ref.error_bound
         assert abs(r.renyi["0.5"] - ref.renyi["0.5"]) <= (r.renyi_error_bound["0.5"]
