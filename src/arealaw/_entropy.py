@@ -12,8 +12,8 @@ from .spectrum._measures import (entanglement_energies, entropy_error_bound, mut
 from .correlators import check_temperature
 from .spectrum._negativity import (log_negativity, log_negativity_error_bound,
                                    partial_transpose_spectrum)
-from .methods._registry import choose_method
-from .network._regions import Region, union
+from .methods._registry import Method, choose_method, method_names
+from .network._regions import check_network, check_region, union
 
 __all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativity"]
 
@@ -115,12 +115,15 @@ def _jsonable(obj):
 
 
 def _check_region(network, region, name):
-    if not isinstance(region, Region):
-        raise TypeError(f"{name} must be a Region (see arealaw.box, ball, from_sites, ...), "
-                        f"got {type(region).__name__}")
-    if region.size and region.indices[-1] >= network.index_limit:
-        raise ValueError(f"{name} has site {int(region.indices[-1])}, outside this network of "
-                         f"{network.index_limit} sites; was it built for another network?")
+    check_region(network, region, name)
+
+
+def _check_method(method):
+    if not isinstance(method, (str, Method)):
+        raise ValueError(f"method must be a method name (one of "
+                         f"{', '.join(method_names())}), got {method!r} "
+                         f"({type(method).__name__})")
+    return method
 
 
 def _measures(spec, orders):
@@ -186,6 +189,8 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     (True, True)
     """
     t0 = time.perf_counter()
+    check_network(network)
+    _check_method(method)
     orders = [normalize_order(n) for n in np.atleast_1d(np.asarray(renyi, dtype=object))] \
         if np.size(renyi) else []
     tol = check_tol(tol)
@@ -290,6 +295,8 @@ def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DE
     >>> res.log_negativity > 100 * res.error_bound > 0
     True
     """
+    check_network(network)
+    _check_method(method)
     tol = check_tol(tol)
     _check_region(network, region_a, "region_a")
     _check_pair(network, region_a, region_b, "the logarithmic negativity")

@@ -10,7 +10,7 @@ import numpy as np
 from ._errors import InsufficientMemoryError
 
 __all__ = ["DEFAULT_ENTROPY_TOL", "DEFAULT_TOL", "EPS", "INF_WORDS", "MEMORY_FRACTION",
-           "available_bytes", "check_tol", "fits_in_memory", "format_bytes", "is_inf_word",
+           "MIN_TOL", "available_bytes", "check_tol", "fits_in_memory", "format_bytes", "is_inf_word",
            "require_memory"]
 
 #: Unit roundoff of float64 (the ε of every rounding model in the error bounds).
@@ -23,6 +23,11 @@ DEFAULT_TOL = 1e-10
 #: Default accuracy requested of the entropy by the restricted solver
 #: (``entropy_tol`` of :func:`arealaw.restricted_spectrum`).
 DEFAULT_ENTROPY_TOL = 1e-10
+
+#: Smallest accepted ``tol``: correlator entries of order one computed in float64 carry
+#: rounding errors of a few tens of ε (sums over modes, quadrature nodes); asking for less than
+#: this would promise an accuracy no method delivers (common practice, no source).
+MIN_TOL = 1e-14
 
 #: Spellings accepted for an infinite value (axis lengths, Rényi orders).
 INF_WORDS = ("inf", "infinite", "infinity", "∞")
@@ -45,6 +50,10 @@ def check_tol(tol, name="tol"):
     """
     if isinstance(tol, bool) or not (isinstance(tol, (int, float, np.floating)) and 0 < tol < 1):
         raise ValueError(f"{name}={tol!r} must be a number in (0, 1), e.g. {DEFAULT_TOL:g}")
+    if tol < MIN_TOL:
+        raise ValueError(f"{name}={tol:g} is below what double-precision correlators can reach "
+                         f"(entries of X and P carry rounding errors of about {MIN_TOL:g}); "
+                         f"use {name} >= {MIN_TOL:g}")
     return float(tol)
 
 

@@ -31,13 +31,17 @@ def build_parser():
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=ArgumentParser)
     for name in COMMAND_MODULES:
         importlib.import_module(f"{__name__}.{name}").register(sub)
+    parser.commands = sub.choices  # command name -> its parser (for error hints)
     return parser
 
 
 def main(argv=None):
     """Run the command line; returns the exit status."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args, extra = parser.parse_known_args(argv)
+    if extra:  # reported by the command's own parser, which knows its options for a hint
+        command = parser.commands.get(getattr(args, "command", None), parser)
+        command.error(f"unrecognized arguments: {' '.join(extra)}")
     if not getattr(args, "func", None):
         parser.print_help()
         return 2

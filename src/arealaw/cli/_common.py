@@ -3,12 +3,14 @@
 import argparse
 import json
 import math
+import re
 import sys
 
+from .._arguments import did_you_mean
 from .._errors import ConvergenceError, InsufficientMemoryError
 from .._numerics import is_inf_word
 
-__all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "positive_int",
+__all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "positive_float", "positive_int",
            "print_json"]
 
 #: Exceptions that mean "the user asked for something impossible or wrong": one line, exit 2.
@@ -20,7 +22,19 @@ class ArgumentParser(argparse.ArgumentParser):
     """argparse with a one-line error (no usage dump) that points at ``--help``."""
 
     def error(self, message):
-        self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
+        self.exit(2, f"{self.prog}: error: {message}{self._suggestion(message)} "
+                     f"(see '{self.prog} --help')\n")
+
+    def _suggestion(self, message):
+        """A did-you-mean hint for a misspelt option or choice (argparse gives none here)."""
+        m = re.match(r"unrecognized arguments: (\S+)", message)
+        if m:
+            options = [o for a in self._actions for o in a.option_strings]
+            return did_you_mean(m.group(1).split("=")[0], options)
+        m = re.search(r"invalid choice: '([^']*)' \(choose from (.*)\)", message)
+        if m:
+            return did_you_mean(m.group(1), re.findall(r"'([^']*)'", m.group(2)))
+        return ""
 
 
 class HelpFormatter(argparse.RawDescriptionHelpFormatter):
@@ -43,6 +57,17 @@ def positive_int(text):
     if n < 1:
         raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
     return n
+
+
+def positive_float(text):
+    """A finite number > 0 (e.g. seconds)."""
+    try:
+        x = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+    if not (x > 0 and math.isfinite(x)):
+        raise argparse.ArgumentTypeError(f"{text!r} must be a finite number > 0")
+    return x
 
 
 def parse_extent(text):

@@ -7,7 +7,7 @@ import time
 from importlib.resources import files
 from pathlib import Path
 
-from ._common import HelpFormatter, positive_int, print_json
+from ._common import HelpFormatter, positive_float, positive_int, print_json
 
 __all__ = ["register"]
 
@@ -111,7 +111,7 @@ def _run_options(p):
                    help="local worker processes (default 1)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler, e.g. tcp://head-node:8786")
-    p.add_argument("--scheduler-timeout", type=float, default=20.0, metavar="SECONDS",
+    p.add_argument("--scheduler-timeout", type=positive_float, default=20.0, metavar="SECONDS",
                    help="how long to try reaching the scheduler (default 20)")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
 

@@ -27,7 +27,7 @@ from .._numerics import DEFAULT_TOL
 from ..spectrum._measures import von_neumann_entropy
 from ._registry import Method
 from ..network._network import OscillatorNetwork
-from ..network._regions import Region
+from ..network._regions import region_of
 from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
 
@@ -168,8 +168,8 @@ def shells(network, n):
     if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or not 1 <= n < network.n_radial:
         raise ValueError(f"shells n={n!r} must be a whole number with 1 <= n < N = "
                          f"{network.n_radial} (the ball must end inside the lattice)")
-    return Region(np.arange(int(n), dtype=np.int64), f"ball of {n} shells (R = {n + 0.5:g})",
-                  ("ball", n + 0.5, (0.0,) * network.dim))
+    return region_of(network, np.arange(int(n), dtype=np.int64),
+                     f"ball of {n} shells (R = {n + 0.5:g})", ("ball", n + 0.5, (0.0,) * network.dim))
 
 
 def _ball_shells(network, region):

@@ -9,6 +9,7 @@ for an :class:`~arealaw.correlators.Assessment` and takes the cheapest that can 
 
 import numpy as np
 
+from .._arguments import unknown_name
 from .._errors import UnsupportedMethodError
 from .._numerics import fits_in_memory, format_bytes, require_memory
 from ..network._regions import cut_couplings
@@ -203,9 +204,12 @@ def choose_method(network, regions, method="auto", *, tol, blocks=False, tempera
     """
     if isinstance(method, Method) or method != "auto":
         # a Method instance (e.g. one with non-default options) is used as given
+        if not isinstance(method, (Method, str)):
+            raise ValueError(f"method must be a method name (one of "
+                             f"{', '.join(method_names())}), got {method!r} "
+                             f"({type(method).__name__})")
         if not isinstance(method, Method) and method not in _METHODS:
-            raise ValueError(f"unknown method {method!r}; choose one of "
-                             f"{', '.join(method_names())}")
+            raise ValueError(unknown_name("method", method, method_names()))
         m = method if isinstance(method, Method) else _METHODS[method]
         if blocks and not m.provides_blocks:
             alt = _best(network, regions, tol, blocks=True, temperature=temperature)

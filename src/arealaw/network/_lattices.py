@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
+from .._arguments import choice, real_number, whole_number
 from .._numerics import fits_in_memory, is_inf_word
 from ._network import OscillatorNetwork
 
@@ -66,6 +67,8 @@ class HypercubicLattice:
 
 
 def _per_axis(value, d, name, cast):
+    if value is None or isinstance(value, (dict, set)):
+        raise ValueError(f"{name} must be one value or one per axis, got {value!r}")
     vals = np.atleast_1d(np.asarray(value, dtype=object))
     if vals.size == 1:
         vals = np.repeat(vals, d)
@@ -78,22 +81,16 @@ def _per_axis(value, d, name, cast):
 def _parse_extent(n):
     if is_inf_word(n):
         return math.inf
-    if isinstance(n, float) and math.isinf(n):
+    if isinstance(n, float) and math.isinf(n) and n > 0:
         return math.inf
     try:
-        k = int(n)
-    except (TypeError, ValueError):
-        raise ValueError(f"shape entry {n!r} is not a positive integer or 'inf'") from None
-    if k != n and not isinstance(n, str) or k < 1:
-        raise ValueError(f"shape entry {n!r} is not a positive integer or 'inf'")
-    return k
+        return whole_number(n, "shape entry", minimum=1)
+    except ValueError as exc:
+        raise ValueError(f"{exc}; give a positive integer or 'inf' per axis") from None
 
 
 def _boundary(b):
-    b = str(b).lower()
-    if b not in BOUNDARIES:
-        raise ValueError(f"boundary {b!r} is not one of {', '.join(BOUNDARIES)}")
-    return b
+    return choice(b, "boundary", BOUNDARIES)
 
 
 def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1.0,
@@ -133,25 +130,28 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
     >>> net.n_sites, float(net.potential[0, 0])
     (12, 4.25)
     """
-    if isinstance(shape, (int, np.integer, str)):
+    if isinstance(shape, (int, np.integer, str, float, bool)):
         shape = (shape,)
-    shape = tuple(_parse_extent(n) for n in shape)
+    if not isinstance(shape, (tuple, list, np.ndarray)):
+        raise ValueError(f"shape must be a sequence of sites per axis (e.g. (20, 20)), got "
+                         f"{shape!r} ({type(shape).__name__})")
+    shape = tuple(_parse_extent(n) for n in np.asarray(shape, dtype=object).ravel())
     d = len(shape)
     if not 1 <= d <= 3:
         raise ValueError(f"shape {shape} has {d} axes; hypercubic lattices have 1, 2 or 3")
-    couplings = _per_axis(coupling, d, "coupling", float)
-    for j in couplings:
-        if not (j > 0 and math.isfinite(j)):
-            raise ValueError(f"coupling {j!r} must be a positive finite number")
+    couplings = _per_axis(coupling, d, "coupling",
+                          lambda j: real_number(j, "coupling", minimum=0, strict=True))
     boundaries = _per_axis(boundary, d, "boundary", _boundary)
     boundaries = tuple("infinite" if math.isinf(n) else b for n, b in zip(shape, boundaries))
     # m_i = m + w·u_i with u_i >= 0 stays a valid mass for any w >= 0; a coupling
     # J·(1 + w·u), u in (−1, 1), stays positive only for w < 1
-    if not (0 <= mass_disorder < math.inf):
+    if not (0 <= real_number(mass_disorder, "mass_disorder") < math.inf):
         raise ValueError(f"mass_disorder={mass_disorder!r} must be a finite number >= 0")
-    if not (0 <= coupling_disorder < 1):
+    if not (0 <= real_number(coupling_disorder, "coupling_disorder") < 1):
         raise ValueError(f"coupling_disorder={coupling_disorder!r} must satisfy 0 <= w < 1 "
                          "(larger w would give negative couplings)")
+    if seed is not None:
+        seed = whole_number(seed, "seed", minimum=0)
     infinite = any(math.isinf(n) for n in shape)
     if infinite and (np.ndim(mass) or np.ndim(inertia) or mass_disorder or coupling_disorder):
         raise ValueError("an infinite lattice must be uniform: scalar mass and inertia, no disorder")
@@ -190,7 +190,12 @@ def _checked_matrices(matrices, n_sites, d):
 
 
 def _site_values(value, shape, n_sites, name, *, allow_zero):
-    arr = np.asarray(value, dtype=float)
+    if np.ndim(value) == 0:
+        value = real_number(value, name)
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a number or an array of one number per site") from None
     if arr.ndim:
         if n_sites is None or arr.size != n_sites:
             raise ValueError(f"{name} array has shape {arr.shape}; give one number or one value "

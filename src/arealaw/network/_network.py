@@ -1,5 +1,6 @@
 """Oscillator networks: H = ½ pᵀ M⁻¹ p + ½ qᵀ V q with sparse, symmetric positive-definite V and M."""
 
+import hashlib
 import math
 
 import numpy as np
@@ -154,6 +155,36 @@ class OscillatorNetwork:
             return self.n_sites
         return int(np.prod(self.index_shape, dtype=np.int64))
 
+    @property
+    def fingerprint(self):
+        """A content hash of the network (lattice description, or V and M), computed once.
+
+        Regions remember the fingerprint of the network they were built on, so that a region
+        of another network is refused instead of silently selecting other sites.
+        """
+        cached = self.__dict__.get("_fingerprint")
+        if cached is None:
+            h = hashlib.blake2b(digest_size=12)
+            h.update(type(self).__name__.encode())
+            if self.lattice is not None:
+                lat = self.lattice
+                h.update(repr((lat.shape, lat.couplings, lat.boundaries, lat.mass_disorder,
+                               lat.coupling_disorder, lat.seed)).encode())
+                for arr in (lat.mass, lat.inertia):
+                    h.update(np.ascontiguousarray(arr, dtype=float).tobytes())
+            elif self.__dict__.get("_potential") is not None:
+                for m in (self.potential, self.kinetic):
+                    if m is None:
+                        h.update(b"identity")
+                        continue
+                    h.update(repr(m.shape).encode())
+                    for arr in (m.indptr, m.indices, m.data):
+                        h.update(np.ascontiguousarray(arr).tobytes())
+            else:
+                h.update(repr(self).encode())
+            cached = self._fingerprint = h.hexdigest()
+        return cached
+
     def coords(self, indices=None):
         """Coordinates of the given sites (all sites when ``indices`` is None), shape (n, d)."""
         if self.lattice is not None:
@@ -180,7 +211,11 @@ def _as_csr(a, name):
     if sp.issparse(a):
         m = sp.csr_matrix(a, dtype=float)
     else:
-        arr = np.asarray(a, dtype=float)
+        try:
+            arr = np.asarray(a, dtype=float)
+        except (TypeError, ValueError):
+            raise ValueError(f"{name} must be a rectangular matrix of numbers (a scipy sparse "
+                             "matrix or a 2-D array), got ragged or non-numeric rows") from None
         if arr.ndim != 2:
             raise ValueError(f"{name} must be a 2-D matrix, got an array of shape {arr.shape}")
         m = sp.csr_matrix(arr)

@@ -1,14 +1,23 @@
 """Regions: sorted sets of site indices with a human description."""
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
+from .._arguments import int_vector, real_number, real_vector, whole_number
+from .._numerics import require_memory
+from ._network import OscillatorNetwork
+
 __all__ = [
-    "Region", "ball", "box", "complement", "cut_couplings", "difference", "from_mask",
-    "from_sites", "half_space", "intersection", "slab", "union",
+    "Region", "ball", "box", "check_region", "complement", "cut_couplings", "difference",
+    "from_mask", "from_sites", "half_space", "intersection", "region_of", "slab", "union",
 ]
+
+#: Bytes per site while a geometric region's index list is built (coordinate grids, flat
+#: indices, the sorted copy): refused up front when that would not fit.
+_BUILD_BYTES_PER_SITE_AXIS = 8.0
+_BUILD_BYTES_PER_SITE = 32.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -24,6 +33,8 @@ class Region:
     indices: np.ndarray
     description: str
     geometry: tuple = ()
+    #: (fingerprint, description) of the network the region was built on; None: unchecked.
+    network_key: tuple = field(default=None, repr=False)
 
     @property
     def size(self):
@@ -42,10 +53,51 @@ class Region:
         return f"Region({self.description}, {self.size} sites)"
 
 
+def _network_key(network):
+    return (network.fingerprint, repr(network))
+
+
+def region_of(network, indices, description, geometry=()):
+    """A :class:`Region` of ``network`` from already validated sorted unique indices."""
+    return Region(np.asarray(indices, dtype=np.int64), description, geometry,
+                  _network_key(network))
+
+
+def check_network(network, name="network"):
+    """Refuse anything that is not an :class:`OscillatorNetwork`, naming the argument."""
+    if not isinstance(network, OscillatorNetwork):
+        raise ValueError(f"{name} must be an OscillatorNetwork (arealaw.hypercubic, "
+                         f"arealaw.OscillatorNetwork, ...), got {type(network).__name__}")
+    return network
+
+
+def check_region(network, region, name="region"):
+    """Refuse a non-region, or a region built on another network (even when its indices fit)."""
+    if not isinstance(region, Region):
+        raise ValueError(f"{name} must be a Region (see arealaw.box, ball, from_sites, ...), "
+                         f"got {type(region).__name__}")
+    key = region.network_key
+    if key is not None and key[0] != network.fingerprint:
+        raise ValueError(f"{name} ({region.description}) was built on another network "
+                         f"({key[1]}), not on this one ({network!r}); build it on this network")
+    if region.size and region.indices[-1] >= network.index_limit:
+        raise ValueError(f"{name} has site {int(region.indices[-1])}, outside this network of "
+                         f"{network.index_limit} sites; was it built for another network?")
+    return region
+
+
+def _require_build_memory(count, d, what):
+    require_memory(float(count) * (_BUILD_BYTES_PER_SITE + _BUILD_BYTES_PER_SITE_AXIS * d),
+                   f"the site list of {what} ({float(count):.3g} sites)",
+                   "choose a smaller region (no method can hold this many sites anyway)")
+
+
 def _make(network, indices, description, geometry=(), *, allow_empty=False):
     idx = np.asarray(indices)
+    if idx.dtype == object or not (np.issubdtype(idx.dtype, np.number) or idx.size == 0):
+        raise ValueError(f"site indices must be integers, got {idx.dtype} values")
     if idx.size and not np.issubdtype(idx.dtype, np.integer):
-        if not np.all(np.mod(idx, 1) == 0):
+        if np.issubdtype(idx.dtype, np.bool_) or not np.all(np.mod(idx, 1) == 0):
             raise ValueError(f"site indices must be integers, got e.g. {idx.ravel()[0]!r}")
     idx = idx.astype(np.int64).ravel()
     if idx.size == 0 and not allow_empty:
@@ -60,7 +112,7 @@ def _make(network, indices, description, geometry=(), *, allow_empty=False):
         vals, counts = np.unique(idx, return_counts=True)
         raise ValueError(f"site {int(vals[counts > 1][0])} appears more than once in region "
                          f"{description}; list each site once")
-    return Region(uniq, description, geometry)
+    return Region(uniq, description, geometry, _network_key(network))
 
 
 def _lattice_shape(network, what):
@@ -71,19 +123,11 @@ def _lattice_shape(network, what):
     return shape
 
 
-def _vector(value, d, name):
-    v = np.atleast_1d(np.asarray(value, dtype=float))
-    if v.size == 1:
-        v = np.repeat(v, d)
-    if v.size != d:
-        raise ValueError(f"{name} has {v.size} values but the lattice has {d} axes")
-    return v
-
-
 def _check_axis(axis, d):
-    if not (isinstance(axis, (int, np.integer)) and 0 <= axis < d):
+    axis = whole_number(axis, "axis")
+    if not 0 <= axis < d:
         raise ValueError(f"axis {axis!r} is out of range for a {d}-D lattice (valid: 0..{d - 1})")
-    return int(axis)
+    return axis
 
 
 def _finite_extent(network, axis):
@@ -100,20 +144,20 @@ def box(network, size, origin=None):
     >>> box(hypercubic((6, 6), mass=1.0), 2).indices.tolist()
     [14, 15, 20, 21]
     """
-    shape = _lattice_shape(network, "box")
+    shape = _lattice_shape(check_network(network), "box")
     d = len(shape)
-    size = _vector(size, d, "box size").astype(int)
-    if np.any(size < 1):
-        raise ValueError(f"box size {size.tolist()} must be >= 1 along every axis")
+    size = int_vector(size, d, "box size", minimum=1)
     if origin is None:
         ext = [(_finite_extent(network, a) or 2 * int(size[a])) for a in range(d)]
         origin = [(e - s) // 2 for e, s in zip(ext, size)]
-    origin = _vector(origin, d, "box origin").astype(int)
+    origin = int_vector(origin, d, "box origin")
     for a in range(d):
         ext = _finite_extent(network, a)
         if origin[a] < 0 or (ext is not None and origin[a] + size[a] > ext):
             raise ValueError(f"box along axis {a} spans {origin[a]}..{origin[a] + size[a] - 1}, "
                              f"outside the lattice (0..{(ext or shape[a]) - 1})")
+    desc = "box " + "x".join(map(str, size))
+    _require_build_memory(np.prod(size.astype(float)), d, desc)
     grids = np.meshgrid(*[np.arange(o, o + s) for o, s in zip(origin, size)], indexing="ij")
     idx = np.ravel_multi_index([g.ravel() for g in grids], shape)
     desc = "box " + "x".join(map(str, size)) + " at (" + ",".join(map(str, origin)) + ")"
@@ -125,21 +169,23 @@ def ball(network, radius, center=None):
 
     Works on lattices and on networks with site coordinates.
     """
-    if not (radius >= 0 and math.isfinite(radius)):
-        raise ValueError(f"ball radius {radius!r} must be a finite number >= 0")
+    check_network(network)
+    radius = real_number(radius, "ball radius", minimum=0)
     if network.lattice is not None:
         shape = network.index_shape
         d = len(shape)
         if center is None:
             ext = [_finite_extent(network, a) for a in range(d)]
             center = [((e - 1) / 2 if e is not None else math.ceil(radius)) for e in ext]
-        c = _vector(center, d, "ball center")
-        lo = np.maximum(np.ceil(c - radius), 0).astype(int)
-        hi = np.floor(c + radius).astype(int)
+        c = real_vector(center, d, "ball center")
+        lo = np.maximum(np.ceil(c - radius), 0)
+        hi = np.floor(c + radius)
         for a in range(d):
             ext = _finite_extent(network, a)
             if ext is not None:
                 hi[a] = min(hi[a], ext - 1)
+        _require_build_memory(np.prod(np.maximum(hi - lo + 1, 0)), d, f"ball r={radius:g}")
+        lo, hi = lo.astype(np.int64), hi.astype(np.int64)
         axes = [np.arange(lo[a], hi[a] + 1) for a in range(d)]
         grids = np.meshgrid(*axes, indexing="ij")
         pts = np.stack([g.ravel() for g in grids], axis=1)
@@ -147,7 +193,8 @@ def ball(network, radius, center=None):
         idx = np.ravel_multi_index(pts[keep].T, shape) if keep.any() else np.array([], int)
     else:
         xyz = network.coords()
-        c = xyz.mean(axis=0) if center is None else _vector(center, xyz.shape[1], "ball center")
+        c = xyz.mean(axis=0) if center is None else real_vector(center, xyz.shape[1],
+                                                                 "ball center")
         idx = np.flatnonzero(np.sum((xyz - c) ** 2, axis=1) <= radius**2 * (1 + 1e-12))
     desc = f"ball r={radius:g} at (" + ",".join(f"{x:g}" for x in np.atleast_1d(c)) + ")"
     return _make(network, idx, desc, ("ball", float(radius), tuple(np.atleast_1d(c).tolist())))
@@ -155,27 +202,31 @@ def ball(network, radius, center=None):
 
 def half_space(network, axis, at):
     """Sites with coordinate ``< at`` along ``axis`` (a lattice with finite extent there)."""
-    shape = _lattice_shape(network, "half-space")
+    shape = _lattice_shape(check_network(network), "half-space")
     axis = _check_axis(axis, len(shape))
+    at = whole_number(at, "half-space position")
     if network.is_infinite and _infinitely_many(network, axis, normal_counts=True):
-        return _geometric(f"half-space x{axis} < {at}", ("half_space", axis, int(at)))
+        return _geometric(network, f"half-space x{axis} < {at}", ("half_space", axis, at))
     region = slab(network, axis, 0, at)
     desc = f"half-space x{axis} < {at}"
-    return Region(region.indices, desc, ("half_space", axis, int(at)))
+    return Region(region.indices, desc, ("half_space", axis, at), region.network_key)
 
 
 def slab(network, axis, start, stop):
     """Sites with ``start <= coordinate < stop`` along ``axis``."""
-    shape = _lattice_shape(network, "slab")
+    shape = _lattice_shape(check_network(network), "slab")
     d = len(shape)
     axis = _check_axis(axis, d)
+    start, stop = whole_number(start, "slab start"), whole_number(stop, "slab stop")
     ext = _finite_extent(network, axis)
     if not (0 <= start < stop) or (ext is not None and stop > ext):
         raise ValueError(f"slab {start}..{stop} along axis {axis} must satisfy "
                          f"0 <= start < stop <= {ext if ext is not None else 'inf'}")
     if network.is_infinite and _infinitely_many(network, axis, normal_counts=False):
-        return _geometric(f"slab {start} <= x{axis} < {stop}",
+        return _geometric(network, f"slab {start} <= x{axis} < {stop}",
                           ("slab", axis, int(start), int(stop)))
+    _require_build_memory(np.prod([float(n) for n in shape]) / shape[axis] * (stop - start), d,
+                          f"slab {start} <= x{axis} < {stop}")
     sub = [np.arange(n) for n in shape]
     sub[axis] = np.arange(int(start), int(stop))
     grids = np.meshgrid(*sub, indexing="ij")
@@ -190,15 +241,24 @@ def _infinitely_many(network, axis, *, normal_counts):
     return any(math.isinf(n) for a, n in enumerate(shape) if a != axis or normal_counts)
 
 
-def _geometric(description, geometry):
+def _geometric(network, description, geometry):
     # Infinitely many sites: the region is described by its geometry alone (no index list);
     # only methods that work from the geometry (method='transverse') can serve it.
-    return Region(np.empty(0, dtype=np.int64), description + " (infinite)", geometry)
+    return Region(np.empty(0, dtype=np.int64), description + " (infinite)", geometry,
+                  _network_key(network))
 
 
 def from_mask(network, mask, description="mask"):
     """Sites where the boolean ``mask`` (flat, or with the lattice shape) is true."""
-    m = np.asarray(mask)
+    check_network(network)
+    try:
+        m = np.asarray(mask)
+    except ValueError:
+        raise ValueError("mask must be a boolean array (flat, or with the lattice shape), got "
+                         "ragged nested lists") from None
+    if m.dtype == object or not (m.dtype == bool or np.issubdtype(m.dtype, np.number)):
+        raise ValueError(f"mask must be a boolean array (flat, or with the lattice shape), got "
+                         f"{m.dtype} values")
     if m.dtype != bool:
         if not np.all(np.isin(m, (0, 1))):
             raise ValueError("mask must be boolean (or 0/1), got values "
@@ -212,31 +272,43 @@ def from_mask(network, mask, description="mask"):
 
 def from_sites(network, sites, description=None):
     """Region from a list of flat site indices (C order on lattices)."""
-    s = np.asarray(sites)
+    check_network(network)
+    try:
+        s = np.asarray(sites)
+    except ValueError:
+        raise ValueError("sites must be a flat list of integer site indices, got ragged nested "
+                         "lists") from None
     desc = description or f"{s.size} listed sites"
     return _make(network, s, desc, ("sites",))
 
 
 def union(network, *regions):
     """Sites in any of the regions."""
+    for i, r in enumerate(regions):
+        check_region(network, r, f"region {i + 1}")
     idx = np.unique(np.concatenate([r.indices for r in regions]))
     return _make(network, idx, " ∪ ".join(r.description for r in regions))
 
 
 def intersection(network, a, b):
     """Sites in both regions."""
+    check_region(network, a, "region a")
+    check_region(network, b, "region b")
     return _make(network, np.intersect1d(a.indices, b.indices),
                  f"{a.description} ∩ {b.description}")
 
 
 def difference(network, a, b):
     """Sites of ``a`` not in ``b``."""
+    check_region(network, a, "region a")
+    check_region(network, b, "region b")
     return _make(network, np.setdiff1d(a.indices, b.indices),
                  f"{a.description} minus {b.description}")
 
 
 def complement(network, region):
     """All other sites of a finite network."""
+    check_region(network, region)
     if network.is_infinite:
         raise ValueError("the complement of a region of an infinite lattice is infinite; "
                          "use the region itself (S(A) = S(complement) for a pure state)")

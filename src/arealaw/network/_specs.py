@@ -12,6 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .._arguments import allowed_hint, unknown_name, whole_number
 from ._lattices import hypercubic
 from ._network import load_network
 from ._regions import ball, box, from_mask, from_sites, half_space, slab
@@ -34,11 +35,13 @@ def network_from_spec(spec):
     >>> net.n_sites
     100
     """
+    if not isinstance(spec, dict):
+        raise ValueError(f"a lattice must be a table of keys ({', '.join(LATTICE_KEYS)}), got "
+                         f"{spec!r}")
     spec = {k: v for k, v in spec.items() if v is not None}
     unknown = sorted(set(spec) - set(LATTICE_KEYS) - set(MATRIX_KEYS))
     if unknown:
-        raise ValueError(f"unknown lattice key {unknown[0]!r}; allowed: "
-                         f"{', '.join(LATTICE_KEYS + MATRIX_KEYS)}")
+        raise ValueError(unknown_name("lattice key", unknown[0], LATTICE_KEYS + MATRIX_KEYS))
     if "potential" in spec:
         extra = sorted(set(spec) & set(LATTICE_KEYS))
         if extra:
@@ -58,7 +61,7 @@ def _read_sites(path):
     if not p.exists():
         raise ValueError(f"site file {str(path)!r} does not exist")
     if p.suffix == ".npy":
-        return np.load(p, allow_pickle=False)
+        return load_array(p, "site file")
     try:
         return np.loadtxt(p, dtype=float, ndmin=1, comments="#")
     except ValueError as exc:
@@ -75,8 +78,15 @@ def region_from_spec(network, spec):
     >>> region_from_spec(net, {"box": [2, 3], "origin": [0, 0]}).size
     6
     """
+    if not isinstance(spec, dict):
+        raise ValueError(f"a region must be a table with one of {', '.join(REGION_KINDS)}, got "
+                         f"{spec!r}")
     spec = {k: v for k, v in spec.items() if v is not None}
     kinds = [k for k in REGION_KINDS if k in spec]
+    if not kinds:
+        other = sorted(set(spec) - {o for v in REGION_OPTIONS.values() for o in v})
+        if other:
+            raise ValueError(unknown_name("region kind", other[0], REGION_KINDS))
     if len(kinds) != 1:
         raise ValueError("give exactly one region kind (" + ", ".join(REGION_KINDS) + "), got "
                          + (", ".join(kinds) if kinds else "none"))
@@ -84,13 +94,13 @@ def region_from_spec(network, spec):
     allowed = {kind, *REGION_OPTIONS.get(kind, ())}
     unknown = sorted(set(spec) - allowed)
     if unknown:
-        raise ValueError(f"region key {unknown[0]!r} does not go with {kind!r}; allowed: "
-                         f"{', '.join(sorted(allowed))}")
+        raise ValueError(f"region key {unknown[0]!r} does not go with {kind!r}"
+                         + allowed_hint(unknown[0], sorted(allowed)))
     value = spec[kind]
     if kind == "box":
         return box(network, value, spec.get("origin"))
     if kind == "ball":
-        return ball(network, float(value), spec.get("center"))
+        return ball(network, value, spec.get("center"))
     if kind == "half_space":
         axis, at = _ints(value, 2, "half_space", "[axis, at]")
         return half_space(network, axis, at)
@@ -102,11 +112,34 @@ def region_from_spec(network, spec):
     mask_path = Path(value)
     if not mask_path.exists():
         raise ValueError(f"mask file {str(value)!r} does not exist")
-    return from_mask(network, np.load(mask_path, allow_pickle=False), f"mask {mask_path.name}")
+    return from_mask(network, load_array(mask_path, "mask file"), f"mask {mask_path.name}")
+
+
+def load_array(path, what):
+    """A plain numeric array from a ``.npy`` file; never unpickles (pickles can run code)."""
+    try:
+        arr = np.load(path, allow_pickle=False)
+    except ValueError as exc:
+        text = str(exc)
+        if "Object arrays" in text:
+            reason = "holds an array of Python objects"
+        elif "pickled" in text:
+            reason = "holds pickled Python objects, not a .npy array (arealaw never unpickles)"
+        else:
+            reason = f"is not a .npy array ({text})"
+        raise ValueError(f"{what} {str(path)!r} {reason}; save a numeric array with "
+                         "numpy.save(path, array)") from None
+    except (OSError, EOFError) as exc:
+        raise ValueError(f"{what} {str(path)!r} cannot be read as a .npy array ({exc})") from None
+    if isinstance(arr, np.lib.npyio.NpzFile):
+        arr.close()
+        raise ValueError(f"{what} {str(path)!r} is an .npz archive; save one array with "
+                         "numpy.save(path, array)")
+    return arr
 
 
 def _ints(value, n, name, form):
-    vals = list(np.atleast_1d(value))
-    if len(vals) != n or any(float(v) != int(float(v)) for v in vals):
+    vals = value if isinstance(value, (list, tuple, np.ndarray)) else [value]
+    if len(vals) != n:
         raise ValueError(f"{name} must be {form} (integers), got {value!r}")
-    return [int(float(v)) for v in vals]
+    return [whole_number(v, f"{name} entry") for v in vals]

@@ -59,6 +59,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .._arguments import allowed_hint, did_you_mean, unknown_name
 from .._numerics import DEFAULT_TOL, check_tol
 from ..methods import RadialLattice, radial_lattice, shells
 from ..methods._registry import method_names
@@ -254,8 +255,7 @@ def parse_scenario(text, *, source="", base=None):
     w = _Where(text, source)
     unknown = sorted(set(data) - set(TOP_KEYS))
     if unknown:
-        raise w.error(f"unknown key {unknown[0]!r}; allowed at top level: "
-                      f"{', '.join(TOP_KEYS)}", unknown[0])
+        raise w.error(unknown_name("key", unknown[0], TOP_KEYS, "at top level"), unknown[0])
     title = data.get("title", "")
     out = data.get("out", "arealaw-out")
     for key, val in (("title", title), ("out", out)):
@@ -276,8 +276,8 @@ def parse_scenario(text, *, source="", base=None):
                 raise w.error(f"{key}: {PLANNED_KEYS[key]}", key, header)
         unknown = sorted(set(spec) - set(SCENARIO_LATTICE_KEYS))
         if unknown:
-            raise w.error(f"unknown lattice key {unknown[0]!r} in [{header}]; allowed: "
-                          f"{', '.join(SCENARIO_LATTICE_KEYS)}", unknown[0], header)
+            raise w.error(unknown_name("lattice key", unknown[0], SCENARIO_LATTICE_KEYS,
+                                       f"in [{header}]"), unknown[0], header)
     families, pairs = data.get("family", []), data.get("pair", [])
     if not isinstance(families, list) or not isinstance(pairs, list):
         raise w.error("family and pair must be arrays of tables: write [[family]] / [[pair]]")
@@ -313,11 +313,11 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
         if key not in NUMERICS_KEYS:
             if key in allowed:
                 continue
-            raise w.error(f"unknown key {key!r} in [{header}]; allowed: {', '.join(allowed)}",
+            raise w.error(unknown_name("key", key, allowed, f"in [{header}]"),
                           key, header, nth)
         if key == "method" and val not in method_names():
-            raise w.error(f"method = {val!r} is not known; allowed: "
-                          f"{', '.join(method_names())}", key, header, nth)
+            raise w.error(f"method = {val!r} is not known" + allowed_hint(val, method_names()),
+                          key, header, nth)
         if key == "tol":
             try:
                 check_tol(val)
@@ -464,10 +464,13 @@ def _entries(fam, kind, lattice_spec, w, header, nth, name):
                                                                 and key in region_keys):
             continue
         if kind == "pair":
-            raise w.error(f"[[pair]] {name!r}: key {key!r} is not allowed; allowed: "
+            hint = did_you_mean(key, PAIR_KEYS + tuple(SCENARIO_LATTICE_KEYS))
+            raise w.error(f"[[pair]] {name!r}: key {key!r} is not allowed{hint or ';'} allowed: "
                           f"{', '.join(PAIR_KEYS)} (a and b are region tables) or a lattice "
                           "key", key, header, nth)
-        raise w.error(f"unknown key {key!r} in [[family]] {name!r}; allowed: "
+        hint = did_you_mean(key, FAMILY_KEYS + tuple(SCENARIO_REGION_KEYS) + tuple(region_keys)
+                            + tuple(SCENARIO_LATTICE_KEYS))
+        raise w.error(f"unknown key {key!r} in [[family]] {name!r}{hint or ';'} allowed: "
                       f"{', '.join(FAMILY_KEYS + SCENARIO_REGION_KEYS)}, origin, center, or a "
                       "lattice key", key, header, nth)
     if kind == "pair" and ("a" not in fam or "b" not in fam):
@@ -572,8 +575,8 @@ def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
                           f"{', '.join(map(repr, lattices))})", None, header, nth)
         lattice = next(iter(lattices))
     if lattice not in lattices:
-        raise w.error(f"lattice = {lattice!r} is not defined; allowed: "
-                      f"{', '.join(map(repr, lattices))}", "lattice", header, nth)
+        hint = allowed_hint(lattice, list(lattices), quoted=True)
+        raise w.error(f"lattice = {lattice!r} is not defined{hint}", "lattice", header, nth)
     lat_header = f"lattices.{lattice}"
     num = _numerics({k: v for k, v in fam.items() if k in NUMERICS_KEYS}, defaults, w, header,
                     nth)
