@@ -156,34 +156,36 @@ class OscillatorNetwork:
         return int(np.prod(self.index_shape, dtype=np.int64))
 
     @property
-    def fingerprint(self):
-        """A content hash of the network (lattice description, or V and M), computed once.
+    def site_layout(self):
+        """What a flat site index means on this network: a small hashable key, computed once.
 
-        Regions remember the fingerprint of the network they were built on, so that a region
-        of another network is refused instead of silently selecting other sites.
+        Lattices: their index shape; other networks: the number of sites and a digest of their
+        coordinates.  Regions remember the layout of the network they were built on and are
+        refused on a network whose sites differ (another shape or size), where their indices
+        would silently select other sites.  Networks that differ only in V or M (another mass,
+        coupling or disorder) share a layout, so a region can be reused across them.
         """
-        cached = self.__dict__.get("_fingerprint")
+        cached = self.__dict__.get("_site_layout")
         if cached is None:
-            h = hashlib.blake2b(digest_size=12)
-            h.update(type(self).__name__.encode())
-            if self.lattice is not None:
-                lat = self.lattice
-                h.update(repr((lat.shape, lat.couplings, lat.boundaries, lat.mass_disorder,
-                               lat.coupling_disorder, lat.seed)).encode())
-                for arr in (lat.mass, lat.inertia):
-                    h.update(np.ascontiguousarray(arr, dtype=float).tobytes())
-            elif self.__dict__.get("_potential") is not None:
-                for m in (self.potential, self.kinetic):
-                    if m is None:
-                        h.update(b"identity")
-                        continue
-                    h.update(repr(m.shape).encode())
-                    for arr in (m.indptr, m.indices, m.data):
-                        h.update(np.ascontiguousarray(arr).tobytes())
+            if self.index_shape is not None:
+                cached = ("lattice", tuple(self.index_shape))
             else:
-                h.update(repr(self).encode())
-            cached = self._fingerprint = h.hexdigest()
+                digest = None
+                if self._coords is not None:
+                    digest = hashlib.blake2b(np.ascontiguousarray(self._coords).tobytes(),
+                                             digest_size=8).hexdigest()
+                cached = (type(self).__name__, self.index_limit, self.ndim, digest)
+            self._site_layout = cached
         return cached
+
+    def describe_sites(self):
+        """The site layout in words, e.g. 'a 20x20 lattice' or 'a network of 12 sites'."""
+        if self.index_shape is not None and self.lattice is not None:
+            dims = ["inf" if math.isinf(n) else str(int(n)) for n in self.lattice.shape]
+            if len(dims) == 1:
+                return f"a chain of {dims[0]} sites"
+            return "a " + "x".join(dims) + " lattice"
+        return f"{self!r} ({self.index_limit} sites)"
 
     def coords(self, indices=None):
         """Coordinates of the given sites (all sites when ``indices`` is None), shape (n, d)."""

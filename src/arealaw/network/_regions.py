@@ -33,7 +33,7 @@ class Region:
     indices: np.ndarray
     description: str
     geometry: tuple = ()
-    #: (fingerprint, description) of the network the region was built on; None: unchecked.
+    #: (site layout, description) of the network the region was built on; None: unchecked.
     network_key: tuple = field(default=None, repr=False)
 
     @property
@@ -54,7 +54,7 @@ class Region:
 
 
 def _network_key(network):
-    return (network.fingerprint, repr(network))
+    return (network.site_layout, network.describe_sites())
 
 
 def region_of(network, indices, description, geometry=()):
@@ -77,9 +77,10 @@ def check_region(network, region, name="region"):
         raise ValueError(f"{name} must be a Region (see arealaw.box, ball, from_sites, ...), "
                          f"got {type(region).__name__}")
     key = region.network_key
-    if key is not None and key[0] != network.fingerprint:
+    if key is not None and key[0] != network.site_layout:
         raise ValueError(f"{name} ({region.description}) was built on another network "
-                         f"({key[1]}), not on this one ({network!r}); build it on this network")
+                         f"({key[1]}), not on this one ({network.describe_sites()}); build the "
+                         "region on this network")
     if region.size and region.indices[-1] >= network.index_limit:
         raise ValueError(f"{name} has site {int(region.indices[-1])}, outside this network of "
                          f"{network.index_limit} sites; was it built for another network?")
