@@ -70,6 +70,10 @@ class Blocks:
     ``x_error`` and ``p_error`` bound the spectral norm of ``X_exact - x`` and ``P_exact - p``
     (from approximation and solver tolerances; rounding included where the backend can say).
     ``info`` carries backend diagnostics (poles, iterations, spectral interval, ...).
+    ``x_dominant``, ``p_dominant`` (optional, square blocks only) are positive semi-definite H
+    with −H ⪯ X_exact − x ⪯ H in Loewner order: errors relative to the actual matrices, which the
+    spectrum propagates through tr(H P) instead of ‖X‖·δP (much tighter on massless lattices).
+    When given, they replace ``x_error``/``p_error`` in the spectrum's bounds.
     """
 
     x: np.ndarray
@@ -77,6 +81,8 @@ class Blocks:
     x_error: float = 0.0
     p_error: float = 0.0
     info: dict = field(default_factory=dict)
+    x_dominant: np.ndarray = None
+    p_dominant: np.ndarray = None
 
 
 @dataclass

@@ -1,5 +1,6 @@
 """Dense reference correlators: exact eigendecomposition, for networks small enough to hold N×N."""
 
+import math
 import weakref
 
 import numpy as np
@@ -10,12 +11,12 @@ from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._temperature import check_temperature, coth_factor
 
-__all__ = ["DenseBackend", "dense_correlators"]
+__all__ = ["DenseBackend", "dense_correlators", "dominant_blocks"]
 
 
 def dense_memory_bytes(n):
-    """Peak bytes of :func:`dense_correlators` for N sites (about five N×N float64 arrays)."""
-    return 5.0 * 8.0 * float(n) ** 2
+    """Peak bytes of :func:`dense_correlators` for N sites (about six N×N float64 arrays)."""
+    return 6.0 * 8.0 * float(n) ** 2
 
 
 def dense_correlators(network, *, temperature=0.0):
@@ -56,11 +57,14 @@ def dense_correlators(network, *, temperature=0.0):
     require_memory(dense_memory_bytes(n), f"the dense method on {n} sites",
                    "use method='auto' (spectral for uniform boxes, sparse otherwise)")
     v = network.potential.toarray()
+    m_beta = 0.0
     if network.kinetic is None:
         m_half = m_inv_half = None
         k = v
     else:
         mu, w = scipy.linalg.eigh(network.kinetic.toarray())
+        # M^{∓1/2} carry relative errors ~ε·cond(M): the potential they transform moves by that
+        m_beta = 4 * math.sqrt(n) * EPS * float(mu[-1] / max(mu[0], 1e-300))
         if mu[0] <= 0:
             raise ValueError(f"kinetic M is not positive definite (smallest eigenvalue {mu[0]:.3g})")
         m_half = (w * np.sqrt(mu)) @ w.T
@@ -93,6 +97,30 @@ def dense_correlators(network, *, temperature=0.0):
         + n * EPS * coth[0] / omega[0]
     p_err = float(np.max(0.5 * (w_hi * coth_factor(w_hi, temperature) - omega * coth))) \
         + n * EPS * omega[-1] * coth[-1]
+    dominant = None
+    beta = None
+    if temperature == 0:
+        # A posteriori backward error: the computed pairs are exact for some K + E with
+        # ‖E‖ ≤ β (residual norm, plus the loss of orthogonality and the rounding of the
+        # products above, modelled as √N·ε relative to ‖K‖).  Then −β ⪯ E ⪯ β and, K ± β
+        # commuting with K and t^{∓1/2} being operator monotone, X̂ − X is dominated in Loewner
+        # order by H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√(λ+β) − √λ) Uᵀ):
+        # errors relative to the actual matrices, mode by mode, instead of ‖X‖-sized ones.
+        res = k @ u - u * lam
+        r_norm = min(float(np.linalg.norm(res)),
+                     math.sqrt(float(np.abs(res).sum(axis=0).max()) *
+                               float(np.abs(res).sum(axis=1).max())))
+        del res
+        orth = float(np.abs(np.einsum("ij,ij->j", u, u) - 1).max())
+        beta = r_norm + scale * (orth + math.sqrt(n) * EPS) + m_beta
+        if beta < lam[0] / 2:
+            hx = 0.5 * (1 / np.sqrt(lam - beta) - 1 / omega)
+            hp = 0.5 * (np.sqrt(lam + beta) - omega)
+            ux = up = u
+            if m_half is not None:
+                # congruence keeps the Loewner order: H_X = M^{-1/2} H M^{-1/2}
+                ux, up = m_inv_half @ u, m_half @ u
+            dominant = (ux, hx, up, hp)
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -101,7 +129,21 @@ def dense_correlators(network, *, temperature=0.0):
     x = 0.5 * (x + x.T)
     p = 0.5 * (p + p.T)
     return x, p, {"omega_min": float(omega[0]), "omega_max": float(omega[-1]),
-                  "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature}
+                  "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature,
+                  "backward_error": beta, "dominant": dominant}
+
+
+def dominant_blocks(info, rows, cols=None):
+    """Loewner-dominating error blocks (H_X, H_P)[rows, cols] of :func:`dense_correlators`.
+
+    (None, None) where the backend gives none (Gibbs states).
+    """
+    if info.get("dominant") is None:
+        return None, None
+    rows = np.asarray(rows)
+    cols = rows if cols is None else np.asarray(cols)
+    ux, hx, up, hp = info["dominant"]
+    return (ux[rows] * hx) @ ux[cols].T, (up[rows] * hp) @ up[cols].T
 
 
 class DenseBackend(CorrelatorBackend):
@@ -133,6 +175,9 @@ class DenseBackend(CorrelatorBackend):
         x, p, info = self._full(network, check_temperature(temperature))
         rows = np.asarray(rows)
         cols = rows if cols is None else np.asarray(cols)
+        hx, hp = dominant_blocks(info, rows, cols)
         return Blocks(x[np.ix_(rows, cols)], p[np.ix_(rows, cols)], info["x_error"],
                       info["p_error"], {"omega_min": info["omega_min"],
-                                        "omega_max": info["omega_max"]})
+                                        "omega_max": info["omega_max"],
+                                        "backward_error": info["backward_error"]},
+                      x_dominant=hx, p_dominant=hp)

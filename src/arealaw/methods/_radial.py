@@ -30,6 +30,7 @@ from ..network._network import OscillatorNetwork
 from ..network._regions import region_of
 from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
+from ..correlators._dense import dominant_blocks
 
 __all__ = ["RadialLattice", "RadialMethod", "radial_chain", "radial_entropy", "radial_lattice",
            "shells"]
@@ -186,8 +187,8 @@ def _ball_shells(network, region):
 def _sector(n_radial, n, l, dim, mass):
     net = OscillatorNetwork(radial_chain(n_radial, l, dim=dim, mass=mass), check=False)
     x, p, info = dense_correlators(net)
-    return symplectic_spectrum(x[:n, :n], p[:n, :n], x_error=info["x_error"],
-                               p_error=info["p_error"])
+    hx, hp = dominant_blocks(info, np.arange(n))
+    return symplectic_spectrum(x[:n, :n], p[:n, :n], x_dominant=hx, p_dominant=hp)
 
 
 def _sectors(n_radial, n, ls, dim, mass, n_jobs):

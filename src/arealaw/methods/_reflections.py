@@ -148,17 +148,17 @@ class ReflectionBlockMethod(BlockMethod):
         b = self.backend.blocks(network, idx[grp.reps], idx, tol=tol, temperature=temperature)
         if "entry_x_error" not in b.info:
             return super().spectrum(network, region, tol=tol, temperature=temperature)
-        x_err = region.size * b.info["entry_x_error"]
-        p_err = region.size * b.info["entry_p_error"]
         parts, sizes = [], []
         for sigma in range(grp.size):
             chi = grp.character(sigma)
             cols = grp.allowed(chi)
             if not cols.size:
                 continue
+            # a sector entry sums |G| entries with weights ≤ 1: its error is ≤ |G|·entry bound
             spec = symplectic_spectrum(_sector_block(b.x, grp, chi, cols),
                                        _sector_block(b.p, grp, chi, cols),
-                                       x_error=x_err, p_error=p_err, info=b.info)
+                                       x_entry=grp.size * b.info["entry_x_error"],
+                                       p_entry=grp.size * b.info["entry_p_error"], info=b.info)
             parts.append((spec, 1.0))
             sizes.append(int(cols.size))
         if sum(sizes) != region.size:  # completeness of the sector bases

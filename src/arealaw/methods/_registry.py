@@ -93,6 +93,22 @@ def restricted_block_spectrum(backend, network, rows, tol):
                                p_error=ops.p_error, trace=ops.trace, info=ops.info)
 
 
+def block_spectrum(b, info=None):
+    """Dense symplectic spectrum of :class:`~arealaw.correlators.Blocks`, with their error form.
+
+    Loewner-dominating error blocks or entry bounds, when the backend gives them, replace the
+    norm bounds (they propagate far more tightly, see :mod:`arealaw.spectrum._bounds`).
+    """
+    info = b.info if info is None else info
+    if b.x_dominant is not None or b.p_dominant is not None:
+        return symplectic_spectrum(b.x, b.p, x_dominant=b.x_dominant, p_dominant=b.p_dominant,
+                                   info=info)
+    if "entry_x_error" in b.info and b.x.shape[0] == b.x.shape[1]:
+        return symplectic_spectrum(b.x, b.p, x_entry=b.info["entry_x_error"],
+                                   p_entry=b.info["entry_p_error"], info=info)
+    return symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error, info=info)
+
+
 class Method:
     """Protocol of a method: ``assess`` (can it serve, at what cost) and ``spectrum``.
 
@@ -166,7 +182,7 @@ class BlockMethod(Method):
                        "use a smaller region" + ("" if temperature > 0 else
                                                  " or a method with a restricted solver"))
         b = self.backend.blocks(network, region.indices, tol=tol, temperature=temperature)
-        return symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error, info=b.info)
+        return block_spectrum(b)
 
     def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
         return self.backend.blocks(network, rows, cols, tol=tol, temperature=temperature)

@@ -27,6 +27,7 @@ from ..spectrum._measures import von_neumann_entropy
 from ._registry import Method
 from ..spectrum._symplectic import SymplecticSpectrum, combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
+from ..correlators._dense import dominant_blocks
 
 __all__ = ["TransverseMethod", "half_chain_spectrum"]
 
@@ -135,7 +136,8 @@ def _chain_spectrum(lat, axes, start, stop, mu2):
     grids = np.meshgrid(*[np.arange(b, e) for b, e in zip(start, stop)], indexing="ij")
     rows = np.ravel_multi_index([g.ravel() for g in grids], [lat.shape[a] for a in axes])
     ix = np.ix_(rows, rows)
-    return symplectic_spectrum(x[ix], p[ix], x_error=info["x_error"], p_error=info["p_error"])
+    hx, hp = dominant_blocks(info, rows)
+    return symplectic_spectrum(x[ix], p[ix], x_dominant=hx, p_dominant=hp)
 
 
 def _transverse_axes(lat, axes):

@@ -13,6 +13,7 @@ import math
 import numpy as np
 
 from .._numerics import is_inf_word
+from ._bounds import sum_error_bound
 
 __all__ = [
     "entanglement_energies", "entropy_error_bound", "mode_entropy", "mutual_information",
@@ -86,7 +87,21 @@ def renyi_entropy(spec, order):
 
 
 def entropy_error_bound(spec, order=1.0):
-    """Bound on |S_n(exact) − S_n(computed)| from the per-mode t errors, the tail and extras."""
+    """Bound on |S_n(exact) − S_n(computed)|.
+
+    When the spectrum carries its trace (every dense symmetric-form spectrum and sums of them),
+    the near-½ modes are bounded as a sum with the trace and concavity
+    (:func:`~arealaw.spectrum._bounds.sum_error_bound`); otherwise mode by mode from ``t_error``,
+    plus the restricted tail bound m·s(T/m).  ``extra_error`` is added in both cases.
+    """
+    if spec.trace is not None and spec.tail is None:
+        n = normalize_order(order)
+        nuclear = (spec.nuclear_error if spec.nuclear_error is not None else
+                   float(np.dot(spec.weights, spec.t_error)))
+        err = sum_error_bound(spec.t, spec.t_error, spec.weights, trace=spec.trace,
+                              trace_error=spec.trace_error, nuclear=nuclear,
+                              f=lambda t: mode_entropy(t, n))
+        return float(err + spec.extra_error)
     lo = np.maximum(spec.t - spec.t_error, 0.0)
     hi = spec.t + spec.t_error
     err = _weighted(spec, mode_entropy(hi, order) - mode_entropy(lo, order))

@@ -198,7 +198,8 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     -----
     The reported bound adds, per kept mode, the Ritz rounding model 16·√m·ε·‖C‖ (plus any
     discarded off-band Lanczos coefficients) and the block error ‖X‖δP + ‖P‖δX + δXδP; the
-    tail total adds the trace rounding, k times the Ritz rounding and (n − k) block errors.
+    tail total adds the trace rounding, k times the Ritz rounding and block errors, and the
+    blocks' effect on the trace (δX·tr P + δP·tr X + n·δX·δP for dense blocks).
     The Rényi bound for orders below 1 is much weaker (s_n has an infinite slope at t = 0).
 
     Examples
@@ -235,6 +236,13 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     xn = _norm_bound(x_op, xa, n, rng) if (p_error or x_error) else 0.0
     pn = _norm_bound(p_op, pa, n, rng) if (p_error or x_error) else 0.0
     block_err = xn * p_error + pn * x_error + x_error * p_error
+    # the exact modes' total differs from the blocks' by at most δX·tr P + δP·tr X + n·δX·δP
+    # (P, X ⪰ 0): far below n·(per-mode block error) when ‖X_A‖ ≫ tr X_A / n (massless)
+    if xa is not None and pa is not None:
+        trace_err = trace_err + min(n * block_err, x_error * float(np.trace(pa))
+                                    + p_error * float(np.trace(xa)) + n * x_error * p_error)
+    else:
+        trace_err = trace_err + n * block_err
 
     attempts = []
     while True:
@@ -385,7 +393,8 @@ def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
     ks = np.arange(k_tau + 1)
     deficit = trace_t - np.concatenate([[0.0], np.cumsum(theta[:k_tau])])
     count = n - ks
-    tail_sum = np.maximum(deficit, 0.0) + trace_err + ks * rho + count * block_err
+    # Σ_{i≤k} t*_i ≥ Σ θ_i − k·(ρ + block error); the trace error already holds the blocks'
+    tail_sum = np.maximum(deficit, 0.0) + trace_err + ks * (rho + block_err)
     smallest = np.concatenate([[np.inf], theta[:k_tau]])
     mean = np.where(count > 0, tail_sum / np.maximum(count, 1), 0.0)
     # Jensen puts the worst case in the tail while the deficit per omitted mode stays below the

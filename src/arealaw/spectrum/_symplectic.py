@@ -11,6 +11,8 @@ import scipy.linalg
 import scipy.linalg.blas
 
 from .._numerics import EPS
+from ._bounds import correlator_terms
+from ..correlators._base import trace_rounding
 
 __all__ = ["SymplecticSpectrum", "Tail", "combine_spectra", "symplectic_spectrum"]
 
@@ -48,7 +50,15 @@ class SymplecticSpectrum:
         Further bound on any measure from outside the modes (e.g. a truncated partial-wave sum).
     info : dict
         Diagnostics.
+    trace : float or None
+        Σ w·t of all modes as formed independently (tr(X_A P_A) − n/4), or None if unknown.
+    trace_error : float
+        Bound on |Σ w·t_exact − trace|.
+    nuclear_error : float or None
+        Bound on Σ w·|t_exact − t| over the computed modes (None: use Σ w·t_error).
+        With ``trace`` these give the sum bounds of :mod:`arealaw.spectrum._bounds`.
     """
+
 
     t: np.ndarray
     t_error: np.ndarray
@@ -57,6 +67,9 @@ class SymplecticSpectrum:
     clamped: int = 0
     extra_error: float = 0.0
     info: dict = field(default_factory=dict)
+    trace: float = None
+    trace_error: float = 0.0
+    nuclear_error: float = None
 
     @property
     def nu(self):
@@ -77,7 +90,7 @@ class SymplecticSpectrum:
         return int(self.t.size)
 
 
-def _make_spectrum(t_raw, delta, weights=None, **kw):
+def _make_spectrum(t_raw, delta, weights=None, *, nuclear_error=None, **kw):
     t_raw = np.asarray(t_raw, dtype=float)
     delta = np.broadcast_to(np.asarray(delta, dtype=float), t_raw.shape).copy()
     neg = t_raw < 0
@@ -86,8 +99,11 @@ def _make_spectrum(t_raw, delta, weights=None, **kw):
     t = np.where(neg, 0.0, t_raw)
     order = np.argsort(-t, kind="stable")
     w = np.ones_like(t) if weights is None else np.broadcast_to(weights, t.shape)[order]
+    if nuclear_error is not None:
+        # clamping moved the computed values further from the exact ones by at most −t_raw
+        nuclear_error = float(nuclear_error) + float(np.sum(-t_raw[neg]))
     return SymplecticSpectrum(t=t[order], t_error=delta[order], weights=np.asarray(w, float),
-                              clamped=int(neg.sum()), **kw)
+                              clamped=int(neg.sum()), nuclear_error=nuclear_error, **kw)
 
 
 def _psd_norm(a):
@@ -99,13 +115,20 @@ def _psd_norm(a):
     return float(abs(scipy.linalg.eigvalsh(a, subset_by_index=[n - 1, n - 1])[0]))
 
 
-def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
+def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, x_dominant=None, p_dominant=None,
+                        x_entry=0.0, p_entry=0.0, info=None):
     """Symplectic spectrum of a region from its blocks X_A, P_A (dense, stable symmetric form).
+
+    (:func:`form_eigenvalues` is the plain per-mode variant, used for partially transposed P.)
 
     With X_A = L Lᵀ (Cholesky), the eigenvalues of W = Lᵀ P_A L are ν²; ``t`` comes from the
     eigenvalues of W − ¼ I.  Per-mode error bounds combine eigenvalue residuals (or a rounding
-    model for large regions) with the block error bounds ``x_error``, ``p_error`` (spectral norm):
-    |δt| ≤ ‖X_A‖·δP + ‖P_A‖·δX + δX·δP.
+    model for large regions), a rounding model of forming W (2√n·ε·‖|L|ᵀ|P_A||L|‖, which is
+    what sets the size of the clamped, slightly negative t) and the block errors, given either
+    as spectral norms ``x_error``, ``p_error``, as Loewner-dominating blocks ``x_dominant``,
+    ``p_dominant`` or as entry bounds ``x_entry``, ``p_entry`` (see :func:`~arealaw.spectrum._bounds.correlator_terms`).  The spectrum also
+    carries the trace tr(X_A P_A) − n/4 with its error and a bound on Σ|δt| (``nuclear_error``),
+    from which the measures bound the near-½ modes as a sum.
 
     Examples
     --------
@@ -122,8 +145,41 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, info=None):
     n = x.shape[0]
     if n == 0:
         raise ValueError("the region is empty; a symplectic spectrum needs at least one site")
-    lam, delta = form_eigenvalues(x, p, x_error=x_error, p_error=p_error)
-    return _make_spectrum(lam, delta, info=dict(info or {}))
+    xs = 0.5 * (x + x.T)
+    ps = 0.5 * (p + p.T)
+    try:
+        chol = scipy.linalg.cholesky(xs, lower=True)
+    except np.linalg.LinAlgError:
+        raise ValueError("X_A is not positive definite: these blocks are not the correlators of "
+                         "a physical Gaussian state (check V and M)") from None
+    # W = Lᵀ P_A L by two triangular products (half the flops of two general ones)
+    w = scipy.linalg.blas.dtrmm(1.0, chol, ps, side=1, lower=1)
+    w = scipy.linalg.blas.dtrmm(1.0, chol, w, side=0, lower=1, trans_a=1)
+    w = 0.5 * (w + w.T)
+    w[np.diag_indices(n)] -= 0.25
+    # forming W: each entry's rounding is at most a few ε·(|L|ᵀ|P||L|)_ij (√n model for the
+    # accumulated sums); the largest row sum of that non-negative matrix bounds its norm
+    abs_l = np.abs(chol)
+    form = 2 * np.sqrt(n) * EPS * float(np.max(abs_l.T @ (np.abs(ps) @ abs_l.sum(axis=1))))
+    del abs_l
+    if n <= RESIDUAL_BOUND_LIMIT:
+        lam, vec = scipy.linalg.eigh(w)
+        resid = np.linalg.norm(w @ vec - vec * lam, axis=0)
+        wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
+        delta = resid + 4 * np.sqrt(n) * EPS * wnorm + form
+    else:
+        lam = scipy.linalg.eigvalsh(w, driver="evd")
+        wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
+        delta = (8 * np.sqrt(n) * EPS * wnorm + form) * np.ones(n)
+    corr = correlator_terms(xs, ps, x_error, p_error, x_dominant=x_dominant,
+                            p_dominant=p_dominant, x_entry=x_entry, p_entry=p_entry)
+    delta = delta + corr.per_mode
+    rows = (xs * ps).sum(axis=1) - 0.25
+    trace = float(rows.sum())
+    trace_err = trace_rounding(n, float(np.abs(xs * ps).sum()) + 0.25 * n) + corr.trace
+    nuclear = float(np.sum(delta - corr.per_mode)) + corr.total
+    return _make_spectrum(lam, delta, info=dict(info or {}), trace=trace, trace_error=trace_err,
+                          nuclear_error=nuclear)
 
 
 def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0):
@@ -184,6 +240,14 @@ def combine_spectra(parts, *, extra_error=0.0, info=None):
                     max_t=float(max(tl.max_t for tl, _ in tails)))
     order = np.argsort(-t, kind="stable")
     extra = extra_error + sum(s.extra_error * wt for s, wt in parts)
+    trace = trace_err = nuclear = None
+    if all(s.trace is not None for s, _ in parts):
+        # sector traces and Lidskii totals add with the sector weights
+        trace = float(sum(s.trace * wt for s, wt in parts))
+        trace_err = float(sum(s.trace_error * wt for s, wt in parts))
+        nuclear = float(sum(wt * (s.nuclear_error if s.nuclear_error is not None else
+                                  float(np.dot(s.weights, s.t_error))) for s, wt in parts))
     return SymplecticSpectrum(t=t[order], t_error=d[order], weights=w[order], tail=tail,
                               clamped=sum(s.clamped for s, _ in parts), extra_error=float(extra),
-                              info=dict(info or {}))
+                              info=dict(info or {}), trace=trace, trace_error=trace_err or 0.0,
+                              nuclear_error=nuclear)

@@ -147,6 +147,13 @@ class Axis:
         # nonnegative mode weights: |g(δ)| ≤ g(0) = Σ_k w_k e^{-sλ_k}
         return np.exp(-np.outer(s, self.lam)) @ self.weights
 
+    def qbound(self, s):
+        """Upper bound of |q(δ; s)| over δ: q(0; s) = Σ_k w_k λ_k e^{-sλ_k} (non-negative terms)."""
+        if self.boundary == "infinite":
+            x = 2 * self.coupling * s
+            return 2 * self.coupling * (_ive(0, x) - _ive(1, x))
+        return np.exp(-np.outer(s, self.lam)) @ (self.weights * self.lam)
+
     def kernels(self, s, args):
         """g(args; s) and q(args; s) = −∂g/∂s for node values ``s`` (shape (n_nodes, n_args))."""
         s = np.asarray(s, dtype=float)[:, None]
@@ -217,11 +224,14 @@ class KernelTables:
             tx, tp = nx, np_
             levels += 1
             modes = max([ax.n_modes for ax in axes] + [1])
-            # rounding model of blocked (BLAS / pairwise) sums over nodes and modes, per axis
-            self.rounding = EPS * (8 + 2 * len(axes) + math.log2(nodes) + math.log2(modes)) \
-                * h * abs_w
+            # rounding model of blocked (BLAS / pairwise) sums over nodes and modes, per axis;
+            # X and P have their own envelopes (P's integrand is small where X's is large)
+            factor = EPS * (8 + 2 * len(axes) + math.log2(nodes) + math.log2(modes)) * h
+            self.rounding = factor * abs_w[0]
+            self.rounding_p = factor * abs_w[1]
             target = max(self.rounding, 1e-6 * tol)
-            if levels >= 2 and diff_x <= target and diff_p <= target * self.p_scale:
+            target_p = max(self.rounding_p, 1e-6 * tol * self.p_scale)
+            if levels >= 2 and diff_x <= target and diff_p <= target_p:
                 break
             if h < _H_MIN:
                 raise ConvergenceError(
@@ -229,8 +239,8 @@ class KernelTables:
                     f"estimates differ by {diff_x:.3g} (X) and {diff_p:.3g} (P), target {tol:g}")
         self.vm = tx        # V^{-1/2} on the argument grid
         self.vp = tp        # V^{1/2}
-        self.err_x = diff_x + h * trimmed + self.rounding
-        self.err_p = diff_p + (h * trimmed + self.rounding) * self.p_scale
+        self.err_x = diff_x + h * trimmed[0] + self.rounding
+        self.err_p = diff_p + h * trimmed[1] + self.rounding_p
         self.info = {"quadrature_nodes": int(nodes), "quadrature_step": h,
                      "quadrature_levels": levels, "quadrature_diff_x": diff_x,
                      "quadrature_diff_p": diff_p, "table_shape": list(plan.table_shape)}
@@ -247,8 +257,20 @@ class KernelTables:
             base = base * imaginary_time_weight(s, self.temperature)
         env = base.copy()
         live = base > 0  # e^{-s m²} underflowed elsewhere; skip those (Bessel of huge arguments)
-        for ax in self.axes:
-            env[live] *= ax.bound(s[live])
+        gb = [ax.bound(s[live]) for ax in self.axes]
+        qb = [ax.qbound(s[live]) for ax in self.axes]
+        prod = np.prod(gb, axis=0) if gb else np.ones(int(live.sum()))
+        env[live] *= prod
+        # P's envelope: m²·Πg + Σ_a q_a Π_{b≠a} g_b (each factor bounded over the arguments)
+        env_p = np.zeros_like(base)
+        pe = self.m2 * prod
+        for a in range(len(self.axes)):
+            term = qb[a]
+            for b in range(len(self.axes)):
+                if b != a:
+                    term = term * gb[b]
+            pe = pe + term
+        env_p[live] = base[live] * pe
         keep = env > _TRIM
         if keep[0] or keep[-1]:  # the integrand is not negligible at |t| = T: range too short
             raise ConvergenceError(
@@ -257,18 +279,19 @@ class KernelTables:
                 "mass is too small — increase it or use Dirichlet walls" + (
                     "; a massless thermal state in d <= 2 without walls has no finite "
                     "correlators" if self.temperature > 0 else ""))
-        trimmed = float(env[~keep].sum()) * max(1.0, self.p_scale)
+        trimmed = np.array([float(env[~keep].sum()), float(env_p[~keep].sum())])
+        abs_sum = np.array([float(env[keep].sum()), float(env_p[keep].sum())])
         s, w = s[keep], base[keep]
         shape = self.plan.table_shape
         if not s.size:
-            return np.zeros(shape), np.zeros(shape), 0, 0.0, trimmed
+            return np.zeros(shape), np.zeros(shape), 0, abs_sum, trimmed
         gq = [ax.kernels(s, args) for ax, args in zip(self.axes, self.plan.args)]
         g = [k[0] for k in gq]
         sx = _outer_sum(w, g)
         sp = self.m2 * sx
         for a in range(len(self.axes)):
             sp = sp + _outer_sum(w, g[:a] + [gq[a][1]] + g[a + 1:])
-        return sx, sp, int(s.size), float(env[keep].sum()), trimmed
+        return sx, sp, int(s.size), abs_sum, trimmed
 
 
 def lattice_axes(lattice):
