@@ -69,7 +69,8 @@ size = "= N / 2"
     ("box = [\"= __import__('os').getcwd()\"]\n", ["not allowed"]),
     ("box = [\"= open('x')\"]\n", ["'open' is not a swept key or an allowed function"]),
     ("box = [\"= 2 ** 1000\"]\n", ["exponent"]),
-    ("box = 2\ntemperature = 0.5\n", ["temperature", "not yet available"]),
+    ("box = 2\ntemperature = -0.5\n", ["temperature = -0.5", "finite number >= 0"]),
+    ("box = 2\ntemperature = {values = [0.1, nan]}\n", ["temperature = nan", ">= 0"]),
     ("vars = {box = 3}\nbox = 2\n", ["vars", "'box'"]),
 ])
 def test_sweep_errors_are_one_clear_line(text, fragments):

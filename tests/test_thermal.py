@@ -231,3 +231,20 @@ def test_cli_temperature_is_echoed_and_bad_values_exit_2(capsys):
     code = main(["entropy", "--radial", "20", "--shells", "4", "--temperature", "0.2"])
     err = capsys.readouterr().err
     assert code == 2 and err.count("\n") == 1 and "temperature" in err
+
+
+def test_scenario_sweeps_temperature_and_keeps_ground_state_keys():
+    from arealaw.workflow._scenario import parse_scenario
+    from arealaw.workflow._sweep import compute_case
+    text = "[lattices.chain]\nshape = [16]\nmass = 0.4\n[[family]]\nbox = 4\n"
+    plain = parse_scenario(text).cases
+    swept = parse_scenario(text + "temperature = {values = [0, 0.2, 0.6]}\n").cases
+    assert [c.temperature for c in swept] == [0.0, 0.2, 0.6]
+    assert swept[0].key == plain[0].key            # T = 0 is the ground-state case
+    assert len({c.key for c in swept}) == 3 and "temperature=0.2" in swept[1].label
+    fixed = parse_scenario("[numerics]\ntemperature = 0.2\n" + text).cases
+    assert fixed[0].key == swept[1].key
+    net = al.hypercubic(16, mass=0.4)
+    out = compute_case(swept[2])
+    ref = al.entropy(net, al.box(net, 4), temperature=0.6)
+    assert out["temperature"] == 0.6 and abs(out["entropy"] - ref.entropy) <= ref.error_bound

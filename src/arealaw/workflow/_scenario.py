@@ -24,6 +24,8 @@ What a family sweeps:
   ``gap`` is the smallest site-to-site distance, both in lattice units);
 * a swept ``seed`` (of disorder) is an *ensemble*, never a size: every realisation is stored,
   and results, fits and the report average over realisations with standard errors.
+* ``temperature`` (of the Gibbs state, lattice units; 0 = the ground state) is a numerics key
+  that a family or pair may also sweep, e.g. ``temperature = {values = [0, 0.1, 0.3]}``.
 
 Layout::
 
@@ -61,6 +63,7 @@ import numpy as np
 
 from .._arguments import allowed_hint, did_you_mean, unknown_name
 from .._numerics import DEFAULT_TOL, check_tol
+from ..correlators import check_temperature
 from ..methods import RadialLattice, radial_lattice, shells
 from ..methods._registry import method_names
 from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, \
@@ -77,11 +80,11 @@ __all__ = ["Case", "Scenario", "build_network", "build_region", "case_hash", "lo
            "parse_scenario", "region_separation"]
 
 TOP_KEYS = ("title", "out", "numerics", "lattices", "family", "pair")
-NUMERICS_KEYS = ("method", "tol", "renyi", "energies")
-#: Keys of measures not yet computed by sweeps: refused with this reason (a hook for thermal
-#: states and negativity, which ``entropy()`` will take as options).
+#: ``temperature`` (of the Gibbs state; 0 = ground state) may also be a sweep in a family or pair.
+NUMERICS_KEYS = ("method", "tol", "renyi", "energies", "temperature")
+#: Keys of measures not yet computed by sweeps: refused with this reason (a hook for
+#: negativity, which ``entropy()`` will take as an option).
 PLANNED_KEYS = {
-    "temperature": "thermal states are not yet available in scenarios (ground states only)",
     "negativity": "the logarithmic negativity is not yet available in scenarios; use "
                   "arealaw entropy --negativity for one pair",
 }
@@ -123,6 +126,7 @@ class Case:
     energies: int = 0
     method: str = "auto"
     tol: float = DEFAULT_TOL
+    temperature: float = 0.0
     family: str = ""
     label: str = ""
     x: float = None
@@ -134,10 +138,14 @@ class Case:
         return case_hash(self)
 
     def content(self):
-        """The dict the content hash is taken over."""
-        return {"network": self.network, "region": self.region, "region_b": self.region_b,
-                "renyi": [order_label(n) for n in self.renyi], "energies": self.energies,
-                "method": self.method, "tol": self.tol, "version": self.version}
+        """The dict the content hash is taken over (``temperature`` only when > 0, so ground-state
+        cases keep their keys)."""
+        out = {"network": self.network, "region": self.region, "region_b": self.region_b,
+               "renyi": [order_label(n) for n in self.renyi], "energies": self.energies,
+               "method": self.method, "tol": self.tol, "version": self.version}
+        if self.temperature:
+            out["temperature"] = float(self.temperature)
+        return out
 
     def to_dict(self):
         return {"case": self.key, "family": self.family, "label": self.label, "x": self.x,
@@ -262,7 +270,8 @@ def parse_scenario(text, *, source="", base=None):
         if not isinstance(val, str):
             raise w.error(f"{key} = {val!r} must be a string", key)
     defaults = _numerics(data.get("numerics", {}), {"method": "auto", "tol": DEFAULT_TOL,
-                                                    "renyi": [], "energies": 0}, w, "numerics")
+                                                    "renyi": [], "energies": 0,
+                                                    "temperature": 0.0}, w, "numerics")
     lattices = data.get("lattices")
     if not isinstance(lattices, dict) or not lattices:
         raise w.error("no lattice given: add a table [lattices.NAME] with shape = [...] "
@@ -323,6 +332,14 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
                 check_tol(val)
             except ValueError as exc:
                 raise w.error(str(exc).replace("tol=", "tol = ", 1), key, header, nth) from None
+        if key == "temperature":
+            if isinstance(val, dict) and header != "numerics":
+                continue  # a sweep: each value is checked with its case
+            try:
+                val = check_temperature(val)
+            except ValueError as exc:
+                raise w.error(str(exc).replace("temperature=", "temperature = ", 1), key,
+                              header, nth) from None
         if key == "energies" and (isinstance(val, bool) or not isinstance(val, int) or val < 0):
             raise w.error(f"energies = {val!r} must be a whole number >= 0", key, header, nth)
         if key == "renyi":
@@ -496,6 +513,8 @@ def _entries(fam, kind, lattice_spec, w, header, nth, name):
     else:
         entries += [_Entry(k, "region", k, v) for k, v in fam.items() if k in region_keys]
     entries += [_Entry(k, "override", k, v) for k, v in fam.items() if k in SCENARIO_LATTICE_KEYS]
+    if isinstance(fam.get("temperature"), dict):   # a temperature sweep is an axis like any other
+        entries.append(_Entry("temperature", "state", "temperature", fam["temperature"]))
     entries += [_Entry(k, "lattice", k, v) for k, v in lattice_spec.items() if k not in fam]
     return entries
 
@@ -642,10 +661,17 @@ def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
         if isinstance(x, bool) or not isinstance(x, (int, float)):
             x = None
         label = _label(axes, x_axes, point, kind)
+        temperature = values.get("temperature", num["temperature"])
+        try:
+            temperature = check_temperature(temperature)
+        except ValueError as exc:
+            raise w.error(str(exc).replace("temperature=", "temperature = ", 1), "temperature",
+                          header, nth) from None
         cases.append(Case(network=_canon(net_spec), region=_canon(region),
                           region_b=_canon(region_b) if region_b else None,
                           renyi=list(num["renyi"]), energies=int(num["energies"]),
-                          method=num["method"], tol=float(num["tol"]), family=name,
+                          method=num["method"], tol=float(num["tol"]),
+                          temperature=temperature, family=name,
                           label=label, x=x, lattice=lattice))
     return cases
 

@@ -61,7 +61,7 @@ def compute_case(case):
         region = build_region(network, case.region)
         region_b = build_region(network, case.region_b) if case.region_b else None
         res = entropy(network, region, region_b=region_b, renyi=case.renyi, method=case.method,
-                      tol=case.tol, energies=case.energies)
+                      tol=case.tol, energies=case.energies, temperature=case.temperature)
         out = res.to_dict()
         out["dim"] = network.ndim
         out["boundary_bonds"] = (boundary_bonds(network, region)
