@@ -114,3 +114,41 @@ def test_subprocess_exit_status_and_help():
     top = subprocess.run([sys.executable, "-m", "arealaw", "--help"], capture_output=True,
                          text=True)
     assert top.returncode == 0 and "entropy" in top.stdout
+
+
+def test_closed_pipe_exits_quietly(tmp_path):
+    # a reader that stops early (`arealaw ... | head -1`): the writer sees EPIPE
+    import os
+    code = ("import sys\nfrom arealaw.cli import main\nsys.exit(main(['entropy', '--shape', "
+            "'5', '--box', '2', '--energies', '2']))\n")
+    read, write = os.pipe()
+    os.close(read)  # nobody will read: the first write fails with EPIPE
+    r = subprocess.run([sys.executable, "-c", code], stdout=write, stderr=subprocess.PIPE,
+                       text=True, env={**os.environ, "PYTHONUNBUFFERED": "1"})
+    os.close(write)
+    assert r.returncode == 0, r.stderr
+    assert r.stderr == ""
+
+
+def test_non_integer_site_error_prints_the_plain_value(tmp_path, capsys):
+    sites = tmp_path / "s.txt"
+    sites.write_text("2\n3.25\n")
+    assert main(["entropy", "--shape", "10", "--sites", str(sites)]) == 2
+    err = capsys.readouterr().err
+    assert "got 3.25 (entry 2)" in err and "np.float64" not in err
+
+
+def test_radial_lattice_reports_radial_sites_and_partial_waves(capsys):
+    assert main(["entropy", "--radial", "20", "--dim", "3", "--shells", "4", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    waves = d["info"]["partial_waves"]
+    assert d["sites"] == 20 and waves == d["lmax"] + 1
+    assert d["modes"] == 4 * waves  # one mode per shell in each partial wave summed
+
+
+def test_disorder_help_states_each_distribution(capsys):
+    with pytest.raises(SystemExit):
+        main(["entropy", "--help"])
+    out = " ".join(capsys.readouterr().out.split())
+    assert "u_i ~ U(0,1) independent per site; any W >= 0" in out
+    assert "u_b ~ U(-1,1) independent per bond; 0 <= W < 1" in out

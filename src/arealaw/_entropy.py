@@ -221,6 +221,13 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         sites=network.n_sites if network.n_sites is not None else "inf",
         region_sites=region.size, region=region.description, network=repr(network),
         spectrum=spectra[0], info=_info(spectra[0]), temperature=temperature)
+    if "n_radial" in spectra[0].info and "lmax" in spectra[0].info:
+        # partial waves: the network is its N radial sites, and each of the lmax + 1 waves
+        # summed exactly has one mode per shell of the ball (the l-tail is integrated, and the
+        # (2l+1)-fold degeneracies are weights, not extra modes computed)
+        waves = int(spectra[0].info["lmax"]) + 1
+        res.sites, res.modes = int(spectra[0].info["n_radial"]), region.size * waves
+        res.info["partial_waves"] = waves
     if spectra[0].info.get("per_area"):
         # infinite transverse axes: S itself is infinite; the spectrum is weighted per unit area
         res.entropy_per_area, res.entropy, res.region_sites = s, None, "inf"

@@ -5,6 +5,7 @@ parser and sets ``func``; :func:`main` dispatches and turns user errors into one
 """
 
 import importlib
+import os
 import sys
 
 from .. import __version__
@@ -48,11 +49,24 @@ def main(argv=None):
     prog = f"arealaw {args.command}"
     try:
         return int(args.func(args) or 0)
+    except BrokenPipeError:
+        # the reader (e.g. `| head`) has gone: stop quietly, and point stdout at /dev/null so
+        # that the interpreter's final flush does not complain
+        _silence_stdout()
+        return 0
     except KeyboardInterrupt:
         print(f"{prog}: interrupted", file=sys.stderr)
         return 130
     except USER_ERRORS as exc:
         return fail(prog, exc)
+
+
+def _silence_stdout():
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):  # stdout without a file descriptor (e.g. captured in tests)
+        pass
 
 
 if __name__ == "__main__":  # pragma: no cover

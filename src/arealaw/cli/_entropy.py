@@ -184,7 +184,8 @@ def _summary(d):
         lines.append(f"entropy per area {_fmt(d['entropy_per_area'])}  (per unit boundary area; "
                      "Rényi values and bounds below are per area too)")
     if d.get("lmax") is not None:
-        lines.append(f"l cut-off        {d['lmax']} summed exactly, tail integrated "
+        lines.append(f"l cut-off        {d['lmax']}: {d['info']['partial_waves']} partial waves "
+                     f"summed exactly on {d['sites']} radial sites, tail integrated "
                      f"(estimate {d['info']['l_tail_estimate']:.6g})")
     for k, v in d["renyi"].items():
         lines.append(f"Rényi S_{k:<9} {_fmt(v)}  (error bound {d['renyi_error_bound'][k]:.2g})")

@@ -98,8 +98,14 @@ def _make(network, indices, description, geometry=(), *, allow_empty=False):
     if idx.dtype == object or not (np.issubdtype(idx.dtype, np.number) or idx.size == 0):
         raise ValueError(f"site indices must be integers, got {idx.dtype} values")
     if idx.size and not np.issubdtype(idx.dtype, np.integer):
-        if np.issubdtype(idx.dtype, np.bool_) or not np.all(np.mod(idx, 1) == 0):
-            raise ValueError(f"site indices must be integers, got e.g. {idx.ravel()[0]!r}")
+        flat = idx.ravel()
+        if np.issubdtype(idx.dtype, np.bool_):
+            raise ValueError("site indices must be integers, got booleans (a mask? use "
+                             "from_mask)")
+        bad = np.flatnonzero(~(np.mod(flat, 1) == 0))
+        if bad.size:
+            raise ValueError(f"site indices must be integers, got {flat[bad[0]].item()!r} "
+                             f"(entry {int(bad[0]) + 1}); give whole site numbers")
     idx = idx.astype(np.int64).ravel()
     if idx.size == 0 and not allow_empty:
         raise ValueError(f"region {description} contains no sites; enlarge or move it")
