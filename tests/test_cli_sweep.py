@@ -104,15 +104,25 @@ def test_fit_text_warns_and_chord_fits(tmp_path, capsys):
     assert abs(fit["central_charge"]["value"] - 1.0) < 0.02  # c = 1 (same source)
 
 
-def test_plot_writes_pngs(swept, capsys, tmp_path):
+def test_plot_writes_each_figure_in_each_format(swept, capsys, tmp_path):
     _, _, store = swept
-    out = _out(capsys, ["plot", "--store", str(store), "--out", str(tmp_path / "fig")]).out
+    out = _out(capsys, ["plot", "--store", str(store), "--out", str(tmp_path / "fig"),
+                        "--format", "png,svg,pdf", "--quiet"]).out
     paths = out.split()
-    assert [p.rsplit('_', 1)[1] for p in paths] == ['fit.png', 'energies.png', 'region.png',
-                                                   'modes.png']
+    kinds = [p.rsplit("_", 1)[1] for p in paths if "intervals" in p]
+    assert kinds == [f"{k}.{f}" for k in ("fit", "region", "modes", "energies")
+                     for f in ("png", "svg", "pdf")]
+    magic = {"png": b"\x89PNG", "svg": b"<?xml", "pdf": b"%PDF"}
     for p in paths:
         with open(p, "rb") as f:
-            assert f.read(8) == b"\x89PNG\r\n\x1a\n"
+            assert f.read(5).startswith(magic[p.rsplit(".", 1)[1]])
+
+
+def test_plot_refuses_an_unknown_format(swept, capsys, tmp_path):
+    _, _, store = swept
+    err = _out(capsys, ["plot", "--store", str(store), "--out", str(tmp_path / "f"),
+                        "--format", "png,gif"], status=2).err
+    assert "'gif' is not known" in err and "png, svg, pdf" in err
 
 
 def test_report_is_self_contained_html(swept, capsys, tmp_path):
@@ -124,6 +134,43 @@ def test_report_is_self_contained_html(swept, capsys, tmp_path):
     assert html.count("data:image/png;base64,") >= 5
     assert "http://" not in html and "https://" not in html and "<script" not in html
     assert "Mutual information" in html and "central charge" in html
+    figures = sorted(p.name for p in (tmp_path / "r_figures").iterdir())
+    assert "intervals_fit.png" in figures and "intervals_fit.svg" in figures
+
+
+def test_report_records_the_physics_and_the_scenario(swept, capsys, tmp_path):
+    _, scen, store = swept
+    path = tmp_path / "r.html"
+    _out(capsys, ["report", "--store", str(store), "--out", str(path), "--no-figure-files"])
+    html = path.read_text()
+    assert not (tmp_path / "r_figures").exists()
+    assert "<title>tiny chain</title>" in html  # the scenario's title by default
+    for fragment in ("lattice shape", "<td>60</td>", "dirichlet (default)", "mass m",
+                     "<td>0.05</td>", "couplings J", "kinetic matrix M", "disorder",
+                     "temperature T", "0 (ground state)", "region", "box = 4 … 24 (6 values)",
+                     "Rényi S_n, n = 2", "the 4 lowest entanglement energies",
+                     "requested dense", "tolerance tol", "arealaw version", "computed",
+                     "Model S = ", "size variable", "window 6 points", "χ² =",
+                     "model scatter", "Scenario files"):
+        assert fragment in html, fragment
+    import html as h
+    assert h.escape(scen.read_text()) in html  # the scenario file itself, embedded
+
+
+def test_report_of_an_ensemble_shows_means_with_error_bars(tmp_path, capsys):
+    scen = tmp_path / "e.toml"
+    scen.write_text('title = "ensemble"\n[numerics]\nmethod = "dense"\n[lattices.c]\n'
+                    'shape = [24]\nmass = 0.3\nmass_disorder = 2.0\nseed = {from = 1, to = 3}'
+                    '\n[[family]]\nbox = {values = [3, 5, 7, 9]}\norigin = [0]\n')
+    store = str(tmp_path / "e.sqlite")
+    _out(capsys, ["run", str(scen), "--store", store, "--no-progress"])
+    path = tmp_path / "e.html"
+    _out(capsys, ["report", "--store", store, "--out", str(path), "--no-figure-files"])
+    html = path.read_text()
+    for fragment in ("Ensemble means", "standard error", "ensemble of 3 realisations per point",
+                     "seeds 1, 2, 3", "ensemble standard errors in quadrature",
+                     "site masses m_i = m + W·u_i"):
+        assert fragment in html, fragment
 
 
 def test_demo_save_scenario(tmp_path, capsys):

@@ -1,5 +1,6 @@
 """``arealaw run / results / fit / plot / report / demo``: scenario sweeps and their analysis."""
 
+import argparse
 import csv
 import os
 import sys
@@ -72,11 +73,16 @@ def register(sub):
     p.add_argument("--json", action="store_true", help="print one JSON object per fit, as a list")
     p.set_defaults(func=cmd_fit)
 
-    p = sub.add_parser("plot", help="figures of a store (PNG)", formatter_class=HelpFormatter,
-                       description="Scaling fits with residuals, entanglement energies and region "
-                                   "slices, as PNG files.")
+    p = sub.add_parser("plot", help="figures of a store (PNG, SVG, PDF)",
+                       formatter_class=HelpFormatter,
+                       description="Scaling fits with residuals, power-law decays of mutual "
+                                   "information, entanglement energies, regions and modes, as "
+                                   "PNG/SVG/PDF files.")
     _fit_options(p)
     p.add_argument("--out", default="figures", metavar="DIR", help="folder (default: figures)")
+    p.add_argument("--format", type=_formats, default=("png", "svg"), metavar="F,F",
+                   help="file formats, comma-separated: png, svg, pdf (default: png,svg)")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.set_defaults(func=cmd_plot)
 
     p = sub.add_parser("report", help="one self-contained HTML report of a store",
@@ -85,7 +91,13 @@ def register(sub):
     _fit_options(p, family=False)
     p.add_argument("--out", default="report.html", metavar="FILE",
                    help="HTML file (default: report.html)")
-    p.add_argument("--title", default="", help="report title")
+    p.add_argument("--title", default="", help="report title (default: the scenario's)")
+    p.add_argument("--format", type=_formats, default=("png", "svg"), metavar="F,F",
+                   help="also write each figure in these formats into FILE_figures/ next to "
+                        "the report (default: png,svg)")
+    p.add_argument("--no-figure-files", dest="format", action="store_const", const=(),
+                   help="only embed the figures in the HTML file")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.set_defaults(func=cmd_report)
 
     p = sub.add_parser("demo", help="run the bundled demo sweep, fit it and write a report",
@@ -139,7 +151,7 @@ def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout
     client = connect(scheduler, timeout=scheduler_timeout) if scheduler else None
     try:
         with _store(store_path, must_exist=False) as store:
-            store.begin_run(scenario.title, scenario.source)
+            store.begin_run(scenario.title, scenario.source, scenario.text)
             t0 = time.perf_counter()
             summary = run_cases(scenario.cases, store, workers=workers, scheduler=client,
                                 progress=progress)
@@ -280,58 +292,69 @@ def _slug(name):
     return "".join(ch if ch.isalnum() else "_" for ch in name).strip("_") or "family"
 
 
+def _formats(text):
+    """--format png,svg,pdf → a tuple of known formats."""
+    from ..views._plots import FORMATS
+    fmts = tuple(f.strip().lower() for f in text.split(",") if f.strip())
+    bad = [f for f in fmts if f not in FORMATS]
+    if bad or not fmts:
+        raise argparse.ArgumentTypeError(f"format {bad[0] if bad else text!r} is not known; "
+                                         f"allowed: {', '.join(FORMATS)} (comma-separated)")
+    return fmts
+
+
 def cmd_plot(args):
-    from ..views._plots import decay_figure, energies_figure, figure_png, scaling_figure
+    from ..views._plots import save_figure
+    from ..views._report import group_figures
     out = Path(args.out)
     out.mkdir(parents=True, exist_ok=True)
     written = []
     with _store(args.store) as store:
-        for name, fit, rows in _fits(args, store):
-            path = out / f"{_slug(name)}_fit.png"
-            figure_png(decay_figure(fit, title=name) if fit.size == "separation"
-                       else scaling_figure(fit, title=name, measure=args.measure), path)
-            written.append(path)
-            if fit.size == "separation":
-                continue
-            largest = max(rows, key=lambda r: r["x"])
-            if largest.get("entanglement_energies"):
-                path = out / f"{_slug(name)}_energies.png"
-                figure_png(energies_figure(largest["entanglement_energies"],
-                                           title=f"{name}: {largest['label']}"), path)
-                written.append(path)
-            written += _region_pngs(rows, out / f"{_slug(name)}_region.png",
-                                    out / f"{_slug(name)}_modes.png")
+        fits = _fits(args, store)
+        bar = _bar(len(fits), "plot", args)
+        for name, fit, rows in fits:
+            for slug, _, make in group_figures(name, rows, fit, measure=args.measure):
+                try:
+                    fig = make()
+                except (NotImplementedError, ValueError) as exc:
+                    print(f"arealaw plot: no {slug} figure for {name}: {exc}", file=sys.stderr)
+                    continue
+                if fig is not None:
+                    written += save_figure(fig, out / f"{_slug(name)}_{slug}", args.format)[1]
+            bar.update(1)
+        bar.close()
     for p in written:
         print(p)
     return 0
 
 
-def _region_pngs(rows, region_path, modes_path):
-    from ..views._plots import figure_png, mode_figure, region_figure
-    from ..views._report import mode_row
-    from ..network._specs import network_from_spec, region_from_spec
-    written = []
-    for row, path in ((max(rows, key=lambda r: r["x"]), region_path), (mode_row(rows), modes_path)):
-        if row is None:
-            continue
-        net = network_from_spec(row["spec"]["network"])
-        if net.lattice is None or net.is_infinite:
-            continue
-        reg = region_from_spec(net, row["spec"]["region"])
-        name = f"{row['family']}: {row['label']}"
-        fig = (region_figure(net, reg, title=name) if path is region_path
-               else mode_figure(net, reg, title=f"most entangled modes, {name}"))
-        figure_png(fig, path)
-        written.append(path)
-    return written
+def _bar(total, desc, args):
+    """A progress bar on stderr unless --quiet (tqdm hides itself for quick work)."""
+    from tqdm import tqdm
+    return tqdm(total=total, desc=desc, unit="group", file=sys.stderr,
+                disable=getattr(args, "quiet", False), mininterval=0.5, delay=2.0,
+                dynamic_ncols=True)
 
 
 def cmd_report(args):
     from ..views._report import write_report
+    out = Path(args.out)
+    figures = out.with_name(out.stem + "_figures") if args.format else None
     with _store(args.store) as store:
-        path = write_report(store, args.out, title=args.title, powers=args.power,
-                            endpoints=args.endpoints, size=args.size)
+        bar = _bar(None, "report", args)
+
+        def progress(done, total):
+            bar.total = total
+            bar.update(done - bar.n)
+        try:
+            path = write_report(store, args.out, title=args.title, powers=args.power,
+                                endpoints=args.endpoints, size=args.size, figures=figures,
+                                formats=args.format or (), progress=progress)
+        finally:
+            bar.close()
     print(path)
+    if figures is not None:
+        print(f"figures: {figures}/ ({', '.join(args.format)})")
     return 0
 
 
@@ -370,6 +393,7 @@ def cmd_demo(args):
                 f"{n} = {v:.5g} ± {e:.2g}" for n, v, e in
                 zip(fit.names, fit.coefficients, fit.stderr)))
             print(f"  {fit.assessment}" + (f"\n  WARNING: {fit.warning}" if fit.warning else ""))
-        report = write_report(store, out / "report.html", title=scenario.title, size="bonds")
+        report = write_report(store, out / "report.html", title=scenario.title, size="bonds",
+                              figures=out / "report_figures")
     print(f"report: {report}  (total {time.perf_counter() - t0:.1f} s)")
     return status

@@ -1,19 +1,30 @@
 """Figures of a stored sweep (matplotlib ``Figure`` objects directly: no pyplot, no global backend).
 
 * :func:`scaling_figure` — S against the area term R^{d−1} (ln ℓ in 1-D) with the fit, and the
-  residuals with the error bounds;
+  residuals with the error bars the fit used (said in the axis label);
+* :func:`decay_figure` — mutual information against separation, log-log, with the power law;
 * :func:`energies_figure` — the lowest entanglement energies of one case against their index;
-* :func:`region_figure` — a 2-D slice of the region through its centre;
-* :func:`mode_figure` — the same slice of the most entangled modes (largest ν).
+* :func:`region_figure` — regions A (and B) on a slice through their centre, with a legend;
+* :func:`mode_figure` — the most entangled modes (largest ν): line plots on chains, images of a
+  slice (cropped to the region and a margin) in 2-D and 3-D, with labelled colour bars.
+
+:func:`save_figure` renders a figure once per requested format and returns the PNG bytes (the
+report embeds those), so ``plot`` and ``report`` never draw a figure twice.
 """
 
 import io
+from pathlib import Path
 
 import numpy as np
 from matplotlib.figure import Figure
 
-__all__ = ["decay_figure", "energies_figure", "entangled_modes", "figure_png", "mode_figure", "region_figure",
-           "scaling_figure"]
+__all__ = ["FORMATS", "decay_figure", "energies_figure", "entangled_modes", "figure_png",
+           "mode_figure", "region_figure", "save_figure", "scaling_figure"]
+
+#: File formats a figure may be written in.
+FORMATS = ("png", "svg", "pdf")
+#: Sites of margin around a region in cropped slices.
+MARGIN = 3
 
 
 def figure_png(fig, path=None, *, dpi=110):
@@ -25,6 +36,46 @@ def figure_png(fig, path=None, *, dpi=110):
         with open(path, "wb") as f:
             f.write(data)
     return data
+
+
+def save_figure(fig, stem=None, formats=("png",), *, dpi=110):
+    """Write ``fig`` as ``stem.<format>`` for each of ``formats`` (when ``stem`` is given) and
+    return (PNG bytes, paths written).  Each format is rendered once.
+
+    Examples
+    --------
+    >>> fig = Figure()
+    >>> _ = fig.subplots().plot([0, 1], [1, 0])
+    >>> png, paths = save_figure(fig)
+    >>> png[:4], paths
+    (b'\x89PNG', [])
+    """
+    unknown = [f for f in formats if f not in FORMATS]
+    if unknown:
+        raise ValueError(f"figure format {unknown[0]!r} is not known; allowed: "
+                         f"{', '.join(FORMATS)}")
+    png, paths = None, []
+    for fmt in dict.fromkeys(["png", *formats]):
+        buf = io.BytesIO()
+        fig.savefig(buf, format=fmt, dpi=dpi, bbox_inches="tight")
+        data = buf.getvalue()
+        if fmt == "png":
+            png = data
+        if stem is not None and fmt in formats:
+            path = Path(f"{stem}.{fmt}")
+            path.write_bytes(data)
+            paths.append(path)
+    return png, paths
+
+
+def error_bar_label(fit):
+    """What the error bars of a fit's points are, in words."""
+    parts = ["certified error bounds"]
+    if getattr(fit, "ensemble", False):
+        parts.append("ensemble standard errors")
+    if getattr(fit, "model_sigma", 0.0):
+        parts.append(f"model scatter {fit.model_sigma:.2g}")
+    return "error bars: " + " ⊕ ".join(parts)
 
 
 def scaling_figure(fit, *, title="", measure="entropy"):
@@ -39,7 +90,7 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     >>> len(fig.axes)
     2
     """
-    fig = Figure(figsize=(6.4, 6.0))
+    fig = Figure(figsize=(6.4, 6.0), layout="constrained")
     ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
     r = fit.sizes
     grid = np.linspace(r.min(), r.max(), 200)
@@ -52,7 +103,8 @@ def scaling_figure(fit, *, title="", measure="entropy"):
             xlabel = "boundary area (couplings cut)"
         else:
             xlabel = ("R" if fit.dim == 2 else "R²") + "  (area term)"
-    ax.errorbar(x, fit.values, yerr=fit.sigma, fmt="o", ms=4, label=measure)
+    ax.errorbar(x, fit.values, yerr=fit.sigma, fmt="o", ms=4,
+                label=measure + (" (ensemble means)" if getattr(fit, "ensemble", False) else ""))
     ax.plot(xg, fit.predict(grid), "-", lw=1.2, label=fit.law)
     ax.set_ylabel(measure)
     ax.legend(loc="best", fontsize=8)
@@ -61,6 +113,7 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     axr.errorbar(x, fit.residuals, yerr=fit.sigma, fmt="o", ms=3)
     axr.set_ylabel("residual")
     axr.set_xlabel(xlabel)
+    axr.set_title(error_bar_label(fit), fontsize=8, loc="left")
     return fig
 
 
@@ -76,7 +129,7 @@ def decay_figure(fit, *, title=""):
     >>> len(decay_figure(fit_decay(r, 0.2 * r**-3.0)).axes)
     2
     """
-    fig = Figure(figsize=(6.4, 6.0))
+    fig = Figure(figsize=(6.4, 6.0), layout="constrained")
     ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
     r = fit.sizes
     grid = np.geomspace(r.min(), r.max(), 200)
@@ -91,6 +144,7 @@ def decay_figure(fit, *, title=""):
     axr.axhline(0.0, color="0.5", lw=0.8)
     pred = fit.predict(r)
     axr.errorbar(r, fit.residuals / pred, yerr=fit.sigma / pred, fmt="o", ms=3)
+    axr.set_title(error_bar_label(fit), fontsize=8, loc="left")
     axr.set_ylabel("(I − fit) / fit")
     axr.set_xlabel("separation r of the centres (lattice units)")
     return fig
@@ -98,7 +152,7 @@ def decay_figure(fit, *, title=""):
 
 def energies_figure(energies, *, title=""):
     """Entanglement energies ε_k (ν = ½ coth(ε/2)) against their index k."""
-    fig = Figure(figsize=(5.6, 3.6))
+    fig = Figure(figsize=(5.6, 3.6), layout="constrained")
     ax = fig.subplots()
     e = np.array([np.inf if isinstance(v, str) or v is None else v for v in energies], float)
     k = np.arange(e.size)
@@ -110,24 +164,40 @@ def energies_figure(energies, *, title=""):
     return fig
 
 
-def _slice(network, region, values, extra=None):
+def _slice(network, region, values, extra=None, *, margin=None):
     """Values on the region's sites (and ``extra`` = (region, values)) → a 2-D picture through
-    the region's centre."""
+    the region's centre (axis 0 fixed in 3-D), cropped to the regions plus ``margin`` sites
+    when given.  Returns (grid, where, (row offset, column offset))."""
     if network.lattice is None or network.is_infinite:
         raise ValueError("region pictures need a finite lattice")
     full = np.zeros(network.n_sites, dtype=float)
     full[region.indices] = values
+    idx = region.indices
     if extra is not None:
         full[extra[0].indices] = extra[1]
+        idx = np.concatenate([idx, extra[0].indices])
     grid = full.reshape(network.index_shape)
+    coords = np.asarray(network.coords(idx))
     where = ""
     if grid.ndim == 3:
         c = np.asarray(network.coords(region.indices), float).mean(axis=0)
         i = int(np.floor(c[0] + 0.5))
         grid, where = grid[i], f" (slice at axis-0 coordinate {i})"
+        coords = coords[:, 1:]
     elif grid.ndim == 1:
-        grid = grid[None, :]
-    return grid, where
+        grid, coords = grid[None, :], np.stack([np.zeros(len(coords), int), coords[:, 0]], 1)
+    offset = (0, 0)
+    if margin is not None:
+        lo = np.maximum(coords.min(axis=0) - margin, 0)
+        hi = np.minimum(coords.max(axis=0) + margin + 1, grid.shape)
+        grid, offset = grid[lo[0]:hi[0], lo[1]:hi[1]], (int(lo[0]), int(lo[1]))
+    return grid, where, offset
+
+
+def _extent(grid, offset):
+    """imshow extent so that the axes show lattice coordinates of the cropped slice."""
+    r0, c0 = offset
+    return (c0 - 0.5, c0 + grid.shape[1] - 0.5, r0 - 0.5, r0 + grid.shape[0] - 0.5)
 
 
 def entangled_modes(network, region, *, count=2, method="auto", tol=1e-8):
@@ -145,6 +215,13 @@ def entangled_modes(network, region, *, count=2, method="auto", tol=1e-8):
     >>> bool(nu[0] > 0.5), amp.shape
     (True, (1, 16))
     """
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=1):  # threaded BLAS only loses time on small shared machines
+        return _entangled_modes(network, region, count, method, tol)
+
+
+def _entangled_modes(network, region, count, method, tol):
     import scipy.linalg
 
     from ..methods._registry import choose_method
@@ -152,37 +229,88 @@ def entangled_modes(network, region, *, count=2, method="auto", tol=1e-8):
     b = choice.method.blocks(network, region.indices, tol=tol)
     chol = scipy.linalg.cholesky(0.5 * (b.x + b.x.T), lower=True)
     w = chol.T @ b.p @ chol
-    nu2, vec = scipy.linalg.eigh(0.5 * (w + w.T))
-    top = np.argsort(nu2)[::-1][:count]
+    n = w.shape[0]
+    count = min(int(count), n)
+    # only the largest eigenpairs: a fraction of the full eigendecomposition's work
+    nu2, vec = scipy.linalg.eigh(0.5 * (w + w.T), subset_by_index=[n - count, n - 1])
+    top = np.argsort(nu2)[::-1]
     u = chol @ vec[:, top]
     u /= np.linalg.norm(u, axis=0)
     return np.sqrt(np.maximum(nu2[top], 0.0)), u.T
 
 
-def mode_figure(network, region, *, count=2, title=""):
-    """Slices of the ``count`` most entangled modes' amplitudes (see :func:`entangled_modes`)."""
+def mode_figure(network, region, *, count=2, title="", margin=MARGIN):
+    """The ``count`` most entangled modes' profiles (see :func:`entangled_modes`): line plots
+    against the site on a chain, else images of |u_k| on a slice through the region's centre
+    cropped to the region plus ``margin`` sites, each with a labelled colour bar.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic, box
+    >>> net = hypercubic(30, mass=0.2)
+    >>> fig = mode_figure(net, box(net, 8, origin=4))
+    >>> [ax.get_xlabel() for ax in fig.axes]
+    ['site (lattice units)']
+    """
     nu, u = entangled_modes(network, region, count=count)
+    if network.ndim == 1:
+        fig = Figure(figsize=(6.4, 3.8), layout="constrained")
+        ax = fig.subplots()
+        x = np.asarray(network.coords(region.indices))[:, 0]
+        for k in range(len(nu)):
+            sign = np.sign(u[k][np.argmax(np.abs(u[k]))]) or 1.0
+            ax.plot(x, sign * u[k], "o-", ms=3, label=f"mode {k + 1}: ν = {nu[k]:.6g}")
+        ax.axhline(0.0, color="0.6", lw=0.6)
+        ax.set_xlabel("site (lattice units)")
+        ax.set_ylabel("amplitude u_k (unit norm)")
+        ax.legend(loc="best", fontsize=8)
+        ax.set_title(title or f"most entangled modes of {region.description}", fontsize=9)
+        return fig
     amp = np.abs(u)
-    fig = Figure(figsize=(4.4 * len(nu), 4.0))
+    fig = Figure(figsize=(4.6 * len(nu), 4.2), layout="constrained")
     axes = np.atleast_1d(fig.subplots(1, len(nu)))
     for k, ax in enumerate(axes):
-        grid, where = _slice(network, region, amp[k])
-        im = ax.imshow(grid, origin="lower", cmap="magma", interpolation="nearest")
-        fig.colorbar(im, ax=ax, shrink=0.8)
+        grid, where, offset = _slice(network, region, amp[k], margin=margin)
+        im = ax.imshow(grid, origin="lower", cmap="magma", interpolation="nearest",
+                       extent=_extent(grid, offset))
+        bar = fig.colorbar(im, ax=ax, shrink=0.85)
+        bar.set_label("|u_k| (unit-norm profile, dimensionless)", fontsize=8)
         ax.set_title(f"mode {k + 1}: ν = {nu[k]:.4g}{where}", fontsize=8)
+        ax.set_xlabel("last axis (site)")
+        ax.set_ylabel("middle axis (site)" if network.ndim == 3 else "first axis (site)")
     fig.suptitle(title or f"most entangled modes of {region.description}", fontsize=9)
     return fig
 
 
-def region_figure(network, region, *, region_b=None, title=""):
-    """A 2-D slice of the lattice through the region's centre (axis 0 fixed in 3-D)."""
-    shape = network.index_shape
-    grid, where = _slice(network, region, 1.0, None if region_b is None else (region_b, 2.0))
-    fig = Figure(figsize=(4.8, 4.2))
+def region_figure(network, region, *, region_b=None, title="", margin=MARGIN):
+    """Regions A (and B) on a slice through A's centre (axis 0 fixed in 3-D), cropped to the
+    regions plus ``margin`` sites, with a legend.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic, box
+    >>> net = hypercubic((12, 12), mass=0.2)
+    >>> fig = region_figure(net, box(net, 2, origin=(1, 1)), region_b=box(net, 2, origin=(6, 6)))
+    >>> [t.get_text() for t in fig.axes[0].get_legend().get_texts()]
+    ['A (4 sites)', 'B (4 sites)']
+    """
+    from matplotlib.colors import ListedColormap
+    from matplotlib.patches import Patch
+    colours = ["#f4f4f4", "#1f77b4", "#d62728"]
+    grid, where, offset = _slice(network, region, 1.0,
+                                 None if region_b is None else (region_b, 2.0), margin=margin)
+    fig = Figure(figsize=(5.0, 4.4), layout="constrained")
     ax = fig.subplots()
-    ax.imshow(grid, origin="lower", cmap="Blues" if region_b is None else "viridis",
-              vmin=0, vmax=2 if region_b is not None else 1, interpolation="nearest")
+    ax.imshow(grid, origin="lower", cmap=ListedColormap(colours), vmin=-0.5, vmax=2.5,
+              interpolation="nearest", extent=_extent(grid, offset))
+    handles = [Patch(color=colours[1], label=f"A ({region.size} sites)")]
+    if region_b is not None:
+        handles.append(Patch(color=colours[2], label=f"B ({region_b.size} sites)"))
+    handles.append(Patch(facecolor=colours[0], edgecolor="0.6", label="rest of the lattice"))
+    ax.legend(handles=handles[:-1], loc="upper right", fontsize=8, framealpha=0.9)
     ax.set_title((title or region.description) + where, fontsize=9)
-    ax.set_xlabel("last axis")
-    ax.set_ylabel("middle axis" if len(shape) == 3 else ("first axis" if len(shape) == 2 else ""))
+    ax.set_xlabel("last axis (site)")
+    ax.set_ylabel({3: "middle axis (site)", 2: "first axis (site)"}.get(network.ndim, ""))
+    if network.ndim == 1:
+        ax.set_yticks([])
     return fig

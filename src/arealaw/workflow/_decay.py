@@ -118,4 +118,6 @@ def fit_decay_rows(rows, *, measure="mutual_information"):
         raise ValueError("no stored pair with a separation and a mutual information")
     errs = [ensemble_sigma(r["mutual_information_error_bound"],
                            r.get("mutual_information_stderr")) for r in pts]
-    return fit_decay([r["x"] for r in pts], [r["mutual_information"] for r in pts], errs)
+    fit = fit_decay([r["x"] for r in pts], [r["mutual_information"] for r in pts], errs)
+    fit.ensemble = any("realisations" in r for r in pts)  # the points are ensemble means
+    return fit

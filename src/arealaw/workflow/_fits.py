@@ -383,8 +383,10 @@ def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_d
         sizes, endpoints = _chords(pts)
     else:
         sizes = [r["x"] for r in pts]
-    return fit_scaling(sizes, vals, errs, dim=dim, powers=powers, endpoints=endpoints,
-                       max_drop=max_drop, size=size)
+    fit = fit_scaling(sizes, vals, errs, dim=dim, powers=powers, endpoints=endpoints,
+                      max_drop=max_drop, size=size)
+    fit.ensemble = any("realisations" in r for r in pts)  # the points are ensemble means
+    return fit
 
 
 def _chords(rows):

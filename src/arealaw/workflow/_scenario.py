@@ -35,7 +35,7 @@ Layout::
     method = "auto"
     tol = 1e-10
     renyi = [2]
-    energies = 8
+    energies = 8                     # or "all": the whole entanglement spectrum of each case
     [lattices.cube]
     shape = [12, 12, 12]
     mass = 0.1
@@ -102,6 +102,9 @@ PATH_KEYS = ("potential", "kinetic", "sites", "mask")
 #: The key whose sweep is an ensemble of disorder realisations.
 ENSEMBLE_KEY = "seed"
 SWEEP_KEYS = ("from", "to", "step", "values")
+#: ``energies = "all"``: store every entanglement energy of each case (the report then plots
+#: spectra without recomputing them).
+ALL_ENERGIES = 2**31 - 1
 MAX_CASES = 100000
 
 
@@ -184,6 +187,7 @@ class Scenario:
     out: str
     cases: list
     source: str = ""
+    text: str = ""
 
 
 class _Where:
@@ -309,7 +313,7 @@ def parse_scenario(text, *, source="", base=None):
             raise w.error(f"case {c.label!r} of {c.family!r} repeats case {keys[c.key]!r} "
                           "(same lattice, region and measures); remove the duplicate")
         keys[c.key] = f"{c.family}: {c.label}"
-    return Scenario(title=title, out=out, cases=cases, source=source)
+    return Scenario(title=title, out=out, cases=cases, source=source, text=text)
 
 
 def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
@@ -340,8 +344,12 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
             except ValueError as exc:
                 raise w.error(str(exc).replace("temperature=", "temperature = ", 1), key,
                               header, nth) from None
+        if key == "energies" and val == "all":
+            val = ALL_ENERGIES
         if key == "energies" and (isinstance(val, bool) or not isinstance(val, int) or val < 0):
-            raise w.error(f"energies = {val!r} must be a whole number >= 0", key, header, nth)
+            raise w.error(f"energies = {val!r} must be a whole number >= 0 or \"all\" (the "
+                          "whole entanglement spectrum, stored with each case)", key, header,
+                          nth)
         if key == "renyi":
             vals = val if isinstance(val, list) else [val]
             try:

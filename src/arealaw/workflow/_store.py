@@ -34,6 +34,10 @@ CREATE TABLE IF NOT EXISTS runs (
     source   TEXT,
     started  REAL NOT NULL
 );
+CREATE TABLE IF NOT EXISTS scenarios (
+    run_id   TEXT PRIMARY KEY,
+    text     TEXT NOT NULL
+);
 """
 
 #: Columns of :meth:`ResultStore.rows` besides the result's own fields.
@@ -80,11 +84,21 @@ class ResultStore:
     def __len__(self):
         return self._conn.execute("SELECT COUNT(*) FROM cases").fetchone()[0]
 
-    def begin_run(self, title="", source=""):
+    def begin_run(self, title="", source="", text=""):
+        """Record a run; ``text`` is the scenario file itself (the report embeds it)."""
         with self._conn:
             self._conn.execute("INSERT INTO runs VALUES (?, ?, ?, ?)",
                                (self.run_id, title, source, time.time()))
+            if text:
+                self._conn.execute("INSERT INTO scenarios VALUES (?, ?)", (self.run_id, text))
         return self.run_id
+
+    def runs(self):
+        """Recorded runs, oldest first: dicts with run_id, title, source, started, text."""
+        sql = ("SELECT r.run_id, r.title, r.source, r.started, s.text FROM runs r "
+               "LEFT JOIN scenarios s ON s.run_id = r.run_id ORDER BY r.started")
+        return [dict(zip(("run_id", "title", "source", "started", "text"), r))
+                for r in self._conn.execute(sql)]
 
     def keys(self):
         return {r[0] for r in self._conn.execute("SELECT case_key FROM cases")}
