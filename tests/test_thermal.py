@@ -175,6 +175,21 @@ def test_large_region_approaches_the_free_boson_entropy_density():
     assert res[1].error_bound < 1e-6
 
 
+@pytest.mark.slow
+def test_large_square_approaches_the_free_boson_entropy_density_in_2d():
+    # S(L×L) = s L² + b L + c + O(e^{−L/ξ}) on the infinite square lattice (extensive thermal
+    # entropy, edge and corner terms; common practice, no source): the second difference in L
+    # isolates s(T) of ω² = m² + 4 sin²(k_x/2) + 4 sin²(k_y/2).
+    net = al.hypercubic(("inf", "inf"), mass=0.2)
+    t = 0.3
+    s = _free_boson_entropy_density(0.2, t, 2)
+    res = [al.entropy(net, al.box(net, (ell, ell), origin=(0, 0)), method="spectral",
+                      temperature=t) for ell in (12, 16, 20)]
+    second = (res[2].entropy - 2 * res[1].entropy + res[0].entropy) / (2 * 16)
+    assert abs(second - s) < 1e-5 * s
+    assert max(r.error_bound for r in res) < 1e-7
+
+
 def test_mutual_information_of_distant_regions_decays():
     # At T > 0 with a mass, correlations decay exponentially with the distance, so I(A:B) must
     # fall steadily with the separation (common practice, no source).
