@@ -97,3 +97,87 @@ def test_store_survives_kill_9_and_rerun_recomputes_nothing_finished(tmp_path):
         after = dict(con.execute("SELECT case_key, computed_at || ' ' || run_id FROM cases"))
     assert set(after) == set(cases)
     assert all(after[k] == v for k, v in before.items())  # not recomputed
+
+
+def _file_state(path):
+    return path.read_bytes(), sorted(p.name for p in path.parent.iterdir())
+
+
+def test_foreign_sqlite_file_is_refused_and_left_untouched(tmp_path):
+    path = tmp_path / "other.sqlite"
+    with sqlite3.connect(path) as con:
+        con.execute("CREATE TABLE notes (x TEXT)")
+        con.execute("INSERT INTO notes VALUES ('keep me')")
+    con.close()
+    before = _file_state(path)
+    for mode in ("r", "w"):
+        with pytest.raises(ValueError, match="another program .*notes.* does not modify"):
+            ResultStore(path, mode=mode)
+    assert _file_state(path) == before  # no table added, journal mode unchanged
+
+
+def test_other_version_is_not_mixed_in(tmp_path):
+    path = tmp_path / "r.sqlite"
+    old = Case({"shape": [8], "mass": 0.5}, {"box": [4]}, version="0.0.1")
+    with ResultStore(path, version="0.0.1") as st:
+        st.put(old, {"entropy": 0.1, "error_bound": 1e-12, "seconds": 0.0})
+    with pytest.raises(ValueError, match=r"arealaw 0\.0\.1 .* not mixed: run into a new --store"):
+        ResultStore(path)
+    with ResultStore(path, mode="r") as st:  # still readable, and says which version it holds
+        assert st.versions() == ["0.0.1"] and len(st) == 1
+
+
+def test_read_only_open_changes_nothing_and_reads(tmp_path):
+    path = tmp_path / "r.sqlite"
+    c = _case()
+    with ResultStore(path) as st:
+        st.put(c, compute_case(c))
+    before = path.read_bytes()
+    with ResultStore(path, mode="r") as st:
+        assert st.has(c.key) and len(st.rows()) == 1
+        with pytest.raises(ValueError, match="read-only"):
+            st.put(c, {})
+    assert path.read_bytes() == before
+
+
+def test_older_layout_and_empty_and_missing(tmp_path):
+    path = tmp_path / "old.sqlite"
+    with sqlite3.connect(path) as con:
+        con.execute("CREATE TABLE cases (case_key TEXT PRIMARY KEY, result TEXT)")
+        con.execute("CREATE TABLE runs (run_id TEXT)")
+    con.close()
+    with pytest.raises(ValueError, match="older table layout .*new --store"):
+        ResultStore(path, mode="r")
+    with pytest.raises(ValueError, match="does not exist"):
+        ResultStore(tmp_path / "missing.sqlite", mode="r")
+    assert not (tmp_path / "missing.sqlite").exists()
+    (tmp_path / "empty.sqlite").write_bytes(b"")
+    with ResultStore(tmp_path / "empty.sqlite", mode="r") as st:
+        assert st.rows() == [] and len(st) == 0
+
+
+def test_first_release_layout_is_read_and_upgraded(tmp_path):
+    # a store written before stores recorded their schema: same tables, no meta
+    from arealaw.workflow import _store
+    path = tmp_path / "v1.sqlite"
+    c = _case()
+    with sqlite3.connect(path) as con:
+        con.executescript(_store.SCHEMA.split("CREATE TABLE IF NOT EXISTS meta")[0])
+    con.close()
+    with ResultStore(path, mode="r") as st:
+        assert st.schema == 1 and st.rows() == []
+    with ResultStore(path) as st:
+        st.put(c, compute_case(c))
+        assert st.schema == _store.SCHEMA_VERSION
+
+
+def test_claims_share_cases_between_two_open_stores(tmp_path):
+    path = tmp_path / "r.sqlite"
+    c = _case()
+    with ResultStore(path) as a, ResultStore(path) as b:
+        assert a.claim(c.key) and not b.claim(c.key)
+        assert b.claimed_elsewhere([c.key]) == {c.key}
+        a.release(c.key)
+        assert b.claim(c.key) and not a.claim(c.key)
+    with ResultStore(path) as a:  # closing released b's claim
+        assert a.claim(c.key)

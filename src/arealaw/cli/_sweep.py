@@ -38,11 +38,9 @@ Law: S = a R^(d-1) + b ln R + c in d >= 2; S = (c/3) ln l + const in 1-D (two en
 
 
 def _store(path, *, must_exist=True):
+    """The store at ``path``: read-only for reading commands, never created by them."""
     from ..workflow._store import ResultStore
-    if must_exist and not Path(path).is_file():
-        raise ValueError(f"store {str(path)!r} does not exist; run a scenario first "
-                         "(arealaw run SCENARIO.toml --store PATH)")
-    return ResultStore(path)
+    return ResultStore(path, mode="r" if must_exist else "w")
 
 
 def register(sub):
@@ -148,20 +146,30 @@ def _fit_options(p, family=True):
 
 def _sweep(scenario, store_path, workers, scheduler, progress, scheduler_timeout=20.0):
     from ..workflow._sweep import connect, run_cases
+    t0 = time.perf_counter()
     client = connect(scheduler, timeout=scheduler_timeout) if scheduler else None
     try:
         with _store(store_path, must_exist=False) as store:
             store.begin_run(scenario.title, scenario.source, scenario.text)
-            t0 = time.perf_counter()
             summary = run_cases(scenario.cases, store, workers=workers, scheduler=client,
                                 progress=progress)
+    except KeyboardInterrupt:
+        print(f"arealaw run: interrupted; every finished case is kept in {store_path}: rerun "
+              "the same command to resume (it computes only what is missing)", file=sys.stderr)
+        return 130
     finally:
         if client is not None:
             client.close()
-        seconds = time.perf_counter() - t0
+    seconds = time.perf_counter() - t0
+    for note in summary.notes:
+        print(f"arealaw run: {note}", file=sys.stderr)
+    for case, why in summary.retried:
+        print(f"arealaw run: case {case.family} {case.label}: {why}; computed again",
+              file=sys.stderr)
     for case, err in summary.failed:
         print(f"arealaw run: case {case.family} {case.label} failed: {err}", file=sys.stderr)
-    print(f"{summary.done} cases computed, {summary.skipped} already stored, "
+    by_other = f", {summary.elsewhere} by another run" if summary.elsewhere else ""
+    print(f"{summary.done} cases computed, {summary.skipped} already stored{by_other}, "
           f"{len(summary.failed)} failed in {seconds:.1f} s; store: {store_path}")
     return 1 if summary.failed else 0
 
@@ -227,6 +235,11 @@ def _fits(args, store):
     from ..views._report import fit_groups, group_name, pair_groups
     from ..workflow._decay import fit_decay_rows
     from ..workflow._fits import fit_rows
+    versions = store.versions()
+    if len(versions) > 1:
+        raise ValueError(f"store {args.store!r} holds results of arealaw versions "
+                         f"{', '.join(versions)}; a fit would mix them: rerun the scenario into "
+                         "a new --store path with one version")
     rows = store.rows(getattr(args, "family", None))
     if not rows:
         what = f"family {args.family!r}" if getattr(args, "family", None) else "anything"

@@ -1,4 +1,4 @@
-"""Run the cases of a scenario: locally with joblib processes or on a dask.distributed cluster.
+"""Run the cases of a scenario: locally with worker processes or on a dask.distributed cluster.
 
 Workers only compute (:func:`compute_case` is a pure function of a case); the one client process
 writes every finished case to the store as it arrives, so an interrupted sweep loses nothing
@@ -9,7 +9,7 @@ import json
 import os
 import sys
 import time
-from collections import OrderedDict
+from collections import OrderedDict, deque
 
 import numpy as np
 from threadpoolctl import threadpool_limits
@@ -17,6 +17,7 @@ from threadpoolctl import threadpool_limits
 from .._entropy import entropy
 from ..network._regions import cut_couplings
 from ._scenario import build_network, build_region
+from ._workers import WAIT, WorkerPool, usable_cores
 
 __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]
 
@@ -76,12 +77,17 @@ class SweepSummary:
     def __init__(self, total, skipped):
         self.total, self.skipped, self.done, self.failed = total, skipped, 0, []
         self.last = None
+        self.retried = []    # (case, why): lost with a dead worker and computed again
+        self.elsewhere = 0   # cases stored meanwhile by another run on the same store
+        self.notes = []      # e.g. the worker count was capped
         self.t0 = time.perf_counter()
 
     def line(self):
-        parts = [f"{self.done + self.skipped}/{self.total} cases"]
+        parts = [f"{self.done + self.skipped + self.elsewhere}/{self.total} cases"]
         if self.skipped:
             parts.append(f"{self.skipped} already stored")
+        if self.elsewhere:
+            parts.append(f"{self.elsewhere} by another run")
         if self.last is not None:
             case, res = self.last
             parts.append(f"last: {case.family} {case.label} S={res['entropy']:.6g} "
@@ -109,6 +115,67 @@ def _safe(case):
         return case.key, None, f"{type(exc).__name__}: {exc}"
 
 
+#: Times a case whose worker process died is computed again within the same run.
+LOST_CASE_RETRIES = 1
+
+
+class _Source:
+    """Hands out the cases this run computes, claiming each in the store first.
+
+    Cases claimed by another live run on the same store are left to it; when nothing else is
+    left, the source answers :data:`WAIT` until those are stored (counted in
+    ``summary.elsewhere``) or their run has died (then this run claims and computes them).
+    """
+
+    def __init__(self, todo, store, summary, on_elsewhere):
+        self.pending = deque(todo)
+        self.retry = deque()
+        self.elsewhere = {}
+        self.store, self.summary, self.on_elsewhere = store, summary, on_elsewhere
+        self.claims = hasattr(store, "claim")
+
+    def __call__(self):
+        if self.retry:
+            return self.retry.popleft()
+        while self.pending:
+            case = self.pending.popleft()
+            if not self.claims or self.store.claim(case.key):
+                return case
+            if self.store.has(case.key):
+                self.on_elsewhere(case)
+            else:
+                self.elsewhere[case.key] = case
+        for key, case in list(self.elsewhere.items()):
+            if self.store.has(key):
+                del self.elsewhere[key]
+                self.on_elsewhere(case)
+            elif self.store.claim(key):  # the other run died: its claim lapsed
+                del self.elsewhere[key]
+                return case
+        return WAIT if self.elsewhere else None
+
+
+def _inline(source):
+    while True:
+        case = source()
+        if case is None:
+            return
+        if case is WAIT:
+            time.sleep(0.5)
+            continue
+        yield case, _safe(case), False
+
+
+def _worker_count(workers, n_cases, summary):
+    cores = usable_cores()
+    n = max(1, min(int(workers), cores, n_cases))
+    if n < workers:
+        why = (f"{cores} usable core{'s' * (cores > 1)}" if n == cores
+               else f"{n_cases} case{'s' * (n_cases > 1)} to compute")
+        summary.notes.append(f"workers={workers} capped at {n} ({why})")
+    return n
+
+
 def run_cases(cases, store, *, workers=1, scheduler=None, progress=True, stop_on_error=False):
     """Compute the ``cases`` not yet in ``store`` and store each one as it finishes.
 
@@ -117,7 +184,8 @@ def run_cases(cases, store, *, workers=1, scheduler=None, progress=True, stop_on
     cases : list of Case
     store : ResultStore
     workers : int
-        Local worker processes (joblib); 1 runs in this process.  Ignored with ``scheduler``.
+        Local worker processes; 1 computes in this process.  Capped at the usable cores and
+        the cases to compute (``summary.notes`` says so).  Ignored with ``scheduler``.
     scheduler : str, optional
         Address of a dask.distributed scheduler (``tcp://host:8786``), or a ``Client``.
     progress : bool
@@ -128,38 +196,66 @@ def run_cases(cases, store, *, workers=1, scheduler=None, progress=True, stop_on
     Returns
     -------
     SweepSummary
+
+    Notes
+    -----
+    A case whose worker process dies (killed, out of memory) is computed once more; if it is
+    lost again it is recorded as failed and left unclaimed, so a rerun retries it.  Every other
+    case is finished.  Concurrent runs on one store share the cases (see
+    :meth:`ResultStore.claim`).
     """
     if isinstance(workers, bool) or not isinstance(workers, (int, np.integer)) or workers < 1:
         raise ValueError(f"workers={workers!r} must be a whole number >= 1")
     stored = store.keys()
     todo = [c for c in cases if c.key not in stored]
     summary = SweepSummary(len(cases), len(cases) - len(todo))
-    by_key = {c.key: c for c in todo}
     bar = _progress(len(cases), summary.skipped, progress)
+
+    def tick():
+        bar.update(1)
+        bar.set_postfix_str(summary.line().split(" | ", 1)[-1], refresh=True)
+
+    def elsewhere(case):
+        summary.elsewhere += 1
+        tick()
+
+    source = _Source(todo, store, summary, elsewhere)
+    attempts = {}
     try:
         if not todo:
-            pass
+            results, pool = (), None
         elif scheduler is not None:
-            results = _dask_results(todo, scheduler)
-        elif workers == 1:
-            results = (_safe(c) for c in todo)
+            results, pool = _dask_results(source, scheduler), None
         else:
-            from joblib import Parallel, delayed
-            results = Parallel(n_jobs=int(workers), return_as="generator_unordered",
-                               batch_size=1, pre_dispatch="2*n_jobs")(
-                delayed(_safe)(c) for c in todo)
-        for key, res, err in (results if todo else ()):
-            case = by_key[key]
-            if err is not None:
-                if stop_on_error:
-                    raise ValueError(f"case {case.family} {case.label}: {err}")
-                summary.failed.append((case, err))
-            else:
-                store.put(case, res)
-                summary.done += 1
-                summary.last = (case, res)
-            bar.update(1)
-            bar.set_postfix_str(summary.line().split(" | ", 1)[-1], refresh=True)
+            n = _worker_count(workers, len(todo), summary)
+            pool = WorkerPool(n, _safe) if n > 1 else None
+            results = pool.start().run(source) if pool else _inline(source)
+        try:
+            for case, value, lost in results:
+                if lost:
+                    attempts[case.key] = attempts.get(case.key, 0) + 1
+                    if attempts[case.key] <= LOST_CASE_RETRIES:
+                        summary.retried.append((case, value))
+                        source.retry.append(case)
+                        continue
+                    err = (f"{value}, {attempts[case.key]} times; left for a rerun to retry "
+                           "(is it running out of memory?)")
+                else:
+                    _, res, err = value
+                if err is not None:
+                    if hasattr(store, "release"):
+                        store.release(case.key)
+                    if stop_on_error:
+                        raise ValueError(f"case {case.family} {case.label}: {err}")
+                    summary.failed.append((case, err))
+                else:
+                    store.put(case, res)
+                    summary.done += 1
+                    summary.last = (case, res)
+                tick()
+        finally:
+            if pool is not None:
+                pool.stop(abort=sys.exc_info()[0] is not None)
     finally:
         bar.close()
     return summary
@@ -182,15 +278,41 @@ def connect(address, *, timeout=20.0):
                          "with 'dask scheduler' and workers with 'dask worker ADDRESS'") from None
 
 
-def _dask_results(cases, scheduler):
-    from distributed import as_completed
+def _dask_results(source, scheduler):
+    """Submit cases as the source hands them out; a case lost with a dead worker is reported
+    as lost (the scheduler itself first reschedules it on other workers)."""
+    from distributed import KilledWorker, as_completed
     own = not hasattr(scheduler, "submit")
     client = connect(scheduler) if own else scheduler
     try:
-        futures = client.map(_safe, cases, pure=False)
-        for fut in as_completed(futures):
-            yield fut.result()
+        n = len(client.scheduler_info().get("workers", {})) or 1
+        limit = 2 * n + 2
+        done, inflight, state = as_completed(), {}, None
+
+        def fill():
+            while len(inflight) < limit:
+                case = source()
+                if case is None or case is WAIT:
+                    return case
+                fut = client.submit(_safe, case, pure=False)
+                inflight[fut.key] = case
+                done.add(fut)
+            return "full"
+
+        state = fill()
+        while inflight or state is WAIT:
+            if not inflight:
+                time.sleep(0.5)
+                state = fill()
+                continue
+            fut = next(done)
+            case = inflight.pop(fut.key)
+            try:
+                yield case, fut.result(), False
+            except KilledWorker as exc:
+                yield case, f"dask worker died ({exc})", True
             fut.release()
+            state = fill()
     finally:
         if own:
             client.close()

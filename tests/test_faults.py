@@ -1,0 +1,169 @@
+"""Faults with real processes: a killed worker, a killed parent, two runs on one store, Ctrl-C."""
+
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+
+import pytest
+
+from arealaw.workflow._scenario import load_scenario
+
+pytestmark = pytest.mark.skipif(not sys.platform.startswith("linux"),
+                                reason="reads worker processes from /proc")
+
+SCENARIO = """
+[numerics]
+method = "dense"
+[lattices.square]
+shape = [30, 30]
+mass = {from = 0.1, to = %s, step = 0.1}
+[[family]]
+name = "boxes"
+box = [8, 8]
+"""
+
+ENV = {**os.environ, "OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1"}
+
+
+def _scenario(tmp_path, top=0.4):
+    path = tmp_path / "s.toml"
+    path.write_text(SCENARIO % top)
+    return path, len(load_scenario(path).cases)
+
+
+def _run(scenario, store, *extra):
+    cmd = [sys.executable, "-m", "arealaw", "run", str(scenario), "--store", str(store),
+           "--no-progress", *extra]
+    return subprocess.Popen(cmd, env=ENV, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                            text=True)
+
+
+def _stat(pid):
+    try:
+        with open(f"/proc/{pid}/stat") as fh:
+            fields = fh.read().rsplit(")", 1)[1].split()
+    except OSError:
+        return None
+    return fields[0], int(fields[11]) + int(fields[12])  # state, utime + stime
+
+
+def _workers(pid):
+    """Worker processes of ``pid`` (spawned children, not multiprocessing's resource tracker)."""
+    out = []
+    for task in os.listdir(f"/proc/{pid}/task"):
+        try:
+            with open(f"/proc/{pid}/task/{task}/children") as fh:
+                kids = [int(k) for k in fh.read().split()]
+        except OSError:
+            continue
+        for k in kids:
+            try:
+                with open(f"/proc/{k}/cmdline", "rb") as fh:
+                    cmd = fh.read()
+            except OSError:
+                continue
+            if b"spawn_main" in cmd:
+                out.append(k)
+    return out
+
+
+def _wait_for(predicate, timeout, what):
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        value = predicate()
+        if value:
+            return value
+        time.sleep(0.05)
+    raise AssertionError(f"timed out waiting for {what}")
+
+
+def _stored(store):
+    if not store.exists():
+        return 0
+    try:
+        with sqlite3.connect(store, timeout=5) as con:
+            return con.execute("SELECT COUNT(*) FROM cases").fetchone()[0]
+    except sqlite3.OperationalError:
+        return 0
+
+
+def _busy_worker(pid):
+    """A worker that is using CPU (computing a case) right now."""
+    before = {w: _stat(w) for w in _workers(pid)}
+    time.sleep(0.3)
+    for w, st in before.items():
+        now = _stat(w)
+        if st and now and now[1] > st[1] and now[0] != "Z":
+            return w
+    return None
+
+
+def test_killed_worker_case_is_retried_and_the_rest_finished(tmp_path):
+    scenario, total = _scenario(tmp_path)
+    store = tmp_path / "r.sqlite"
+    proc = _run(scenario, store, "--workers", "2")
+    try:
+        _wait_for(lambda: _stored(store) >= 1, 120, "a first stored case")
+        victim = _wait_for(lambda: _busy_worker(proc.pid), 60, "a busy worker")
+        os.kill(victim, signal.SIGKILL)
+        out, err = proc.communicate(timeout=180)
+    finally:
+        proc.kill()
+    assert proc.returncode == 0, err
+    assert "Traceback" not in err
+    assert "worker process died (killed by signal 9 (SIGKILL)); computed again" in err
+    assert f"{total} cases computed" in out
+    assert _stored(store) == total
+
+
+def test_workers_exit_when_the_parent_is_killed(tmp_path):
+    scenario, _ = _scenario(tmp_path, top=2.0)
+    store = tmp_path / "r.sqlite"
+    proc = _run(scenario, store, "--workers", "2")
+    try:
+        # two stored cases: both workers have finished importing and armed their guards
+        _wait_for(lambda: _stored(store) >= 2, 120, "two stored cases")
+        workers = _wait_for(lambda: len(_workers(proc.pid)) == 2 and _workers(proc.pid), 60,
+                            "two workers")
+        _wait_for(lambda: _busy_worker(proc.pid), 60, "a busy worker")
+        proc.send_signal(signal.SIGKILL)
+        proc.wait(10)
+        # dead (gone, or a zombie nobody reaps) within seconds, even mid-computation
+        _wait_for(lambda: all(_stat(w) is None or _stat(w)[0] == "Z" for w in workers), 10,
+                  "the workers to exit after their parent died")
+    finally:
+        proc.kill()
+        proc.communicate()
+
+
+def test_two_concurrent_runs_share_the_cases(tmp_path):
+    scenario, total = _scenario(tmp_path)
+    store = tmp_path / "r.sqlite"
+    first = _run(scenario, store)
+    second = _run(scenario, store)
+    outs = [p.communicate(timeout=240) for p in (first, second)]
+    for p, (out, err) in zip((first, second), outs):
+        assert p.returncode == 0, err
+    computed = [int(out.split(" cases computed")[0].split()[-1]) for out, _ in outs]
+    assert sum(computed) == total  # every case computed exactly once between the two runs
+    assert _stored(store) == total
+    with sqlite3.connect(store) as con:
+        assert con.execute("SELECT COUNT(*) FROM claims").fetchone()[0] == 0
+
+
+def test_ctrl_c_says_how_to_resume(tmp_path):
+    scenario, total = _scenario(tmp_path, top=2.0)
+    store = tmp_path / "r.sqlite"
+    proc = _run(scenario, store)
+    try:
+        _wait_for(lambda: _stored(store) >= 1, 120, "a first stored case")
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=60)
+    finally:
+        proc.kill()
+    assert proc.returncode == 130
+    assert "rerun the same command to resume" in err and "Traceback" not in err
+    assert 1 <= _stored(store) < total
