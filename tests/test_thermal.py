@@ -216,9 +216,27 @@ def test_ground_state_only_methods_refuse_and_name_one_that_can():
     rad = al.radial_lattice(20, dim=3, mass=0.1)
     with pytest.raises(UnsupportedMethodError, match="method='spectral'"):
         al.entropy(rad, al.shells(rad, 4), method="radial", temperature=0.2)
-    net = al.hypercubic((8, 8), mass=0.3, boundary="periodic")
-    with pytest.raises(UnsupportedMethodError, match="method='spectral'"):
-        al.entropy(net, al.half_space(net, 0, 4), method="transverse", temperature=0.2)
+    net = al.hypercubic(("inf", 6), mass=0.3, boundary=("dirichlet", "periodic"))
+    with pytest.raises(UnsupportedMethodError, match="infinite entropy at temperature"):
+        al.entropy(net, al.half_space(net, 0, 0), method="transverse", temperature=0.2)
+
+
+@pytest.mark.parametrize("t", [0.2, 1.0])
+def test_transverse_slabs_at_temperature_equal_dense_and_converge_per_area(t):
+    # H = Σ_k H_k: the Gibbs state factorises over transverse momenta (exact on the lattice)
+    net = al.hypercubic((8, 10), mass=0.3, boundary=("dirichlet", "periodic"))
+    reg = al.slab(net, 0, 2, 5)
+    a = al.entropy(net, reg, method="transverse", temperature=t, renyi=[2])
+    d = al.entropy(net, reg, method="dense", temperature=t, renyi=[2])
+    assert a.method == "transverse"
+    assert abs(a.entropy - d.entropy) <= a.error_bound + d.error_bound
+    assert abs(a.renyi["2"] - d.renyi["2"]) <= a.renyi_error_bound["2"] + d.renyi_error_bound["2"]
+    # an infinite transverse axis gives the entropy per unit area: the limit of S/L
+    inf = al.hypercubic((8, "inf"), mass=0.3, boundary=("dirichlet", "periodic"))
+    per_area = al.entropy(inf, al.slab(inf, 0, 2, 5), method="transverse", temperature=t)
+    big = al.hypercubic((8, 80), mass=0.3, boundary=("dirichlet", "periodic"))
+    s80 = al.entropy(big, al.slab(big, 0, 2, 5), method="transverse", temperature=t).entropy
+    assert abs(per_area.entropy_per_area - s80 / 80) < 1e-8 + per_area.error_bound
 
 
 def test_auto_never_uses_the_restricted_solver_at_temperature():

@@ -99,28 +99,35 @@ def dense_correlators(network, *, temperature=0.0):
         + n * EPS * omega[-1] * coth[-1]
     dominant = None
     beta = None
-    if temperature == 0:
-        # A posteriori backward error: the computed pairs are exact for some K + E with
-        # ‖E‖ ≤ β (residual norm, plus the loss of orthogonality and the rounding of the
-        # products above, modelled as √N·ε relative to ‖K‖).  Then −β ⪯ E ⪯ β and, K ± β
-        # commuting with K and t^{∓1/2} being operator monotone, X̂ − X is dominated in Loewner
-        # order by H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√(λ+β) − √λ) Uᵀ):
-        # errors relative to the actual matrices, mode by mode, instead of ‖X‖-sized ones.
-        res = k @ u - u * lam
-        r_norm = min(float(np.linalg.norm(res)),
-                     math.sqrt(float(np.abs(res).sum(axis=0).max()) *
-                               float(np.abs(res).sum(axis=1).max())))
-        del res
-        orth = float(np.abs(np.einsum("ij,ij->j", u, u) - 1).max())
-        beta = r_norm + scale * (orth + math.sqrt(n) * EPS) + m_beta
-        if beta < lam[0] / 2:
-            hx = 0.5 * (1 / np.sqrt(lam - beta) - 1 / omega)
-            hp = 0.5 * (np.sqrt(lam + beta) - omega)
-            ux = up = u
-            if m_half is not None:
-                # congruence keeps the Loewner order: H_X = M^{-1/2} H M^{-1/2}
-                ux, up = m_inv_half @ u, m_half @ u
-            dominant = (ux, hx, up, hp)
+    # A posteriori backward error: the computed pairs are exact for some K + E with
+    # ‖E‖ ≤ β (residual norm, plus the loss of orthogonality and the rounding of the
+    # products above, modelled as √N·ε relative to ‖K‖).  Then −β ⪯ E ⪯ β and, K ± β
+    # commuting with K and t^{∓1/2} being operator monotone, X̂ − X is dominated in Loewner
+    # order by H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√λ − √(λ−β)) Uᵀ,
+    # the wider side of each mode's interval since √ is concave):
+    # errors relative to the actual matrices, mode by mode, instead of ‖X‖-sized ones.
+    res = k @ u - u * lam
+    r_norm = min(float(np.linalg.norm(res)),
+                 math.sqrt(float(np.abs(res).sum(axis=0).max()) *
+                           float(np.abs(res).sum(axis=1).max())))
+    del res
+    orth = float(np.abs(np.einsum("ij,ij->j", u, u) - 1).max())
+    beta = r_norm + scale * (orth + math.sqrt(n) * EPS) + m_beta
+    if beta < lam[0] / 2:
+        # At T > 0, f(t) = coth(√t/2T)/√t = 2T Σ_n 1/(t + (2πnT)²) is operator monotone
+        # decreasing and g(t) = √t coth(√t/2T) = 2T Σ_n t/(t + (2πnT)²) increasing (Matsubara
+        # sums of such terms), so the argument holds with f, g in place of t^{∓1/2}.  f is
+        # convex and g concave: the wider side of each mode's interval is f(λ−β) − f(λ) and
+        # g(λ) − g(λ−β).
+        w_lo = np.sqrt(lam - beta)
+        g_lo = w_lo * coth_factor(w_lo, temperature)
+        hx = 0.5 * (coth_factor(w_lo, temperature) / w_lo - coth / omega)
+        hp = 0.5 * (omega * coth - g_lo)
+        ux = up = u
+        if m_half is not None:
+            # congruence keeps the Loewner order: H_X = M^{-1/2} H M^{-1/2}
+            ux, up = m_inv_half @ u, m_half @ u
+        dominant = (ux, hx, up, hp)
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -136,7 +143,7 @@ def dense_correlators(network, *, temperature=0.0):
 def dominant_blocks(info, rows, cols=None):
     """Loewner-dominating error blocks (H_X, H_P)[rows, cols] of :func:`dense_correlators`.
 
-    (None, None) where the backend gives none (Gibbs states).
+    (None, None) where the backend gives none.
     """
     if info.get("dominant") is None:
         return None, None

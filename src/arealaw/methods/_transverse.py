@@ -11,6 +11,11 @@ over k = 2πq/L; infinite ones give the entropy per unit boundary area as an int
 Brillouin zone, done by graded composite Gauss–Legendre quadrature with a refinement check.
 When the normal axis is infinite too, the half-chain spectrum is known in closed form (Peschel &
 Chung 1999): entanglement energies (2j + 1)ε with ε = π K(λ′)/K(λ), λ + 1/λ = 2 + μ².
+
+Gibbs states reduce the same way: H = Σ_k H_k, so exp(−H/T) is a product over transverse momenta
+and each chain is in its own Gibbs state at T (its correlators from the dense backend with the
+coth factor).  A half-space of an infinite normal axis has infinite thermal entropy, so at
+T > 0 it is refused.
 A strip of a 3-D lattice (a box spanning one whole periodic axis) reduces the same way to boxes
 of a 2-D lattice, one per momentum along the spanned axis.
 """
@@ -125,14 +130,16 @@ def _geometry(network, region):
     return (axis,), (int(start),), (int(stop),)
 
 
-def _chain_spectrum(lat, axes, start, stop, mu2):
+def _chain_spectrum(lat, axes, start, stop, mu2, temperature=0.0):
     """Spectrum of the box start..stop−1 of the sub-lattice along ``axes`` with mass² ``mu2``."""
     if stop is None:
+        if temperature > 0:
+            raise UnsupportedMethodError(_THERMAL_REFUSAL)
         return half_chain_spectrum(mu2, coupling=lat.couplings[axes[0]])
     sub = hypercubic([lat.shape[a] for a in axes], mass=math.sqrt(max(mu2, 0.0)),
                      coupling=[lat.couplings[a] for a in axes],
                      boundary=[lat.boundaries[a] for a in axes], inertia=lat.inertia)
-    x, p, info = dense_correlators(sub)
+    x, p, info = dense_correlators(sub, temperature=temperature)
     grids = np.meshgrid(*[np.arange(b, e) for b, e in zip(start, stop)], indexing="ij")
     rows = np.ravel_multi_index([g.ravel() for g in grids], [lat.shape[a] for a in axes])
     ix = np.ix_(rows, rows)
@@ -177,7 +184,7 @@ def _graded_rule(levels, nodes):
     return np.concatenate(ks), np.concatenate(ws)
 
 
-def _zone_parts(lat, axes, start, stop, levels, nodes):
+def _zone_parts(lat, axes, start, stop, levels, nodes, temperature=0.0):
     n_t = len(lat.shape) - len(axes)
     k, w = _graded_rule(levels, nodes)
     mu2 = _mu2(lat, axes, [k] * n_t)
@@ -186,16 +193,18 @@ def _zone_parts(lat, axes, start, stop, levels, nodes):
         wg = np.multiply.outer(wg, w)
     wg = wg / math.pi**n_t  # ∫_{[−π,π]^n} d^n k/(2π)^n of an even function = (1/π^n)∫_{[0,π]^n}
     mus, ws = _grouped(mu2, wg)
-    return [(_chain_spectrum(lat, axes, start, stop, m), float(wt)) for m, wt in zip(mus, ws)]
+    return [(_chain_spectrum(lat, axes, start, stop, m, temperature), float(wt))
+            for m, wt in zip(mus, ws)]
 
 
 def _entropy_of(parts):
     return sum(wt * von_neumann_entropy(s) for s, wt in parts)
 
 
-#: Why temperature > 0 is refused: the chains' spectra are those of their ground states.
-_THERMAL_REFUSAL = ("the transverse reduction serves only the ground state; for temperature > 0 "
-                    "use method='spectral' (uniform lattices) or 'dense'")
+#: Why temperature > 0 is refused for half-spaces of an infinite normal axis.
+_THERMAL_REFUSAL = ("a half-space of an infinite normal axis has infinite entropy at temperature "
+                    "> 0 (the thermal part grows with its volume); use a slab on a finite normal "
+                    "axis (method='transverse'), or a finite region with method='spectral'")
 
 
 class TransverseMethod(Method):
@@ -208,8 +217,6 @@ class TransverseMethod(Method):
         self.max_levels = max_levels
 
     def assess(self, network, regions, *, tol, temperature=0.0):
-        if temperature > 0:
-            return Assessment(False, _THERMAL_REFUSAL)
         lat = network.lattice
         if not isinstance(lat, HypercubicLattice):
             return Assessment(False, "the transverse reduction needs a hypercubic lattice")
@@ -217,6 +224,8 @@ class TransverseMethod(Method):
             geos = [_geometry(network, r) for r in regions]
         except UnsupportedMethodError as exc:
             return Assessment(False, str(exc))
+        if temperature > 0 and any(g[2] is None for g in geos):
+            return Assessment(False, _THERMAL_REFUSAL)
         axes = geos[0][0]
         n_normal = float(np.prod([lat.shape[a] for a in axes]))
         chain = 3e-9 * n_normal**3 + 2e-4 if math.isfinite(n_normal) else 1e-4
@@ -232,8 +241,6 @@ class TransverseMethod(Method):
                           len(regions) * n_k * chain)
 
     def spectrum(self, network, region, *, tol, temperature=0.0):
-        if temperature > 0:
-            raise UnsupportedMethodError(_THERMAL_REFUSAL)
         axes, start, stop = _geometry(network, region)
         lat = network.lattice
         transverse = [lat.shape[a] for a in _transverse_axes(lat, axes)]
@@ -241,24 +248,25 @@ class TransverseMethod(Method):
             if not all(math.isinf(n) for n in transverse):
                 raise UnsupportedMethodError(
                     "method 'transverse' needs the transverse axes all periodic or all infinite")
-            return self._per_area(lat, axes, start, stop, tol)
+            return self._per_area(lat, axes, start, stop, tol, temperature)
         ks = [2 * np.pi * np.arange(n) / n for n in transverse]
         mus, ws = _grouped(_mu2(lat, axes, ks), 1.0) if ks else (np.array([lat.mass**2]), [1.0])
-        parts = [(_chain_spectrum(lat, axes, start, stop, m), float(w)) for m, w in zip(mus, ws)]
+        parts = [(_chain_spectrum(lat, axes, start, stop, m, temperature), float(w))
+                 for m, w in zip(mus, ws)]
         return combine_spectra(parts, info={"transverse_momenta": int(np.sum(ws)),
                                             "distinct_chains": len(parts), "axes": list(axes)})
 
-    def _per_area(self, lat, axes, start, stop, tol):
+    def _per_area(self, lat, axes, start, stop, tol, temperature=0.0):
         if lat.mass == 0 and stop is not None and "dirichlet" not in [lat.boundaries[a]
                                                                       for a in axes]:
             raise ValueError("a massless lattice with periodic/open normal axes has a zero mode "
                              "at k = 0; give a mass or a Dirichlet normal axis")
         levels, nodes = 8, 6
-        prev = _zone_parts(lat, axes, start, stop, levels, nodes)
+        prev = _zone_parts(lat, axes, start, stop, levels, nodes, temperature)
         s_prev = _entropy_of(prev)
         while True:
             levels, nodes = levels + 4, nodes + 2
-            parts = _zone_parts(lat, axes, start, stop, levels, nodes)
+            parts = _zone_parts(lat, axes, start, stop, levels, nodes, temperature)
             s = _entropy_of(parts)
             err = abs(s - s_prev)
             if err <= max(tol, self.rtol * abs(s)):
