@@ -7,6 +7,7 @@ import numpy as np
 import scipy.linalg
 
 from .._errors import UnsupportedMethodError
+from .._costs import cost
 from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._temperature import check_temperature, coth_factor
@@ -157,6 +158,8 @@ class DenseBackend(CorrelatorBackend):
     """Exact eigendecomposition of the whole network (the reference for every fast backend)."""
 
     name = "dense"
+    #: Correlators exact to rounding (``method='auto'`` prefers exact methods).
+    exact = True
 
     def __init__(self):
         self._cache = (lambda: None, None, None)  # (weakref to the network, T, correlators)
@@ -169,7 +172,7 @@ class DenseBackend(CorrelatorBackend):
         if not fits_in_memory(need):
             return Assessment(False, f"needs {format_bytes(need)} for N = {n}", need)
         return Assessment(True, f"exact eigendecomposition of all {n} sites", need,
-                          seconds=3e-10 * float(n) ** 3)
+                          seconds=cost("dense.correlators") * float(n) ** 3)
 
     def _full(self, network, temperature):
         ref, temp, result = self._cache

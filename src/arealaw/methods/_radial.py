@@ -23,6 +23,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from .._errors import UnsupportedMethodError
+from .._costs import cost
 from .._numerics import DEFAULT_TOL
 from ..spectrum._measures import von_neumann_entropy
 from ._registry import Method
@@ -193,7 +194,7 @@ def _sector(n_radial, n, l, dim, mass):
 
 def _sectors(n_radial, n, ls, dim, mass, n_jobs):
     ls = [float(l) for l in ls]
-    work = len(ls) * 6e-9 * n_radial**3 + len(ls) * 5e-4
+    work = len(ls) * (cost("radial.sector_cube") * n_radial**3 + cost("radial.sector_overhead"))
     if n_jobs is None:
         n_jobs = 1 if work < 4.0 or (os.cpu_count() or 1) < 2 else -1
     if n_jobs == 1 or len(ls) < 8:
@@ -302,7 +303,8 @@ class RadialMethod(Method):
             except UnsupportedMethodError as exc:
                 return Assessment(False, str(exc))
         n_l = (self.lmax or 8 * max(r.size for r in regions) + 48) + 200
-        seconds = len(regions) * n_l * (6e-9 * network.n_radial**3 + 5e-4)
+        seconds = len(regions) * n_l * (cost("radial.sector_cube") * network.n_radial**3
+                                        + cost("radial.sector_overhead"))
         return Assessment(True, f"partial waves on {network.n_radial} radial sites, "
                                 f"d = {network.dim}", 8.0 * network.n_radial**2 * 6, seconds)
 

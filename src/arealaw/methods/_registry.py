@@ -11,6 +11,7 @@ import numpy as np
 
 from .._arguments import unknown_name
 from .._errors import UnsupportedMethodError
+from .._costs import cost
 from .._numerics import fits_in_memory, format_bytes, require_memory
 from ..network._regions import cut_couplings
 from ..spectrum._restricted import restricted_spectrum
@@ -25,10 +26,11 @@ __all__ = ["BlockMethod", "Choice", "Method", "choose_method", "dense_spectrum_s
 DENSE_SPECTRUM_LIMIT = 15000
 #: Smallest region for which the cost estimate may pick the restricted solver.
 RESTRICTED_MIN_SITES = 8000
-#: Seconds per flop of the dense eigenproblem and of the block-Lanczos restricted solver with
-#: dense region blocks (one BLAS thread, measured by benchmarks/bench_restricted.py).
-_DENSE_SECONDS_PER_FLOP = 2.0e-10
-_RESTRICTED_SECONDS_PER_FLOP = 1.6e-10
+#: ``method='auto'`` takes an approximate method (a tolerance-level result: sparse, partial-wave
+#: and Brillouin-zone sums) over an exact one only when it is estimated this many times cheaper:
+#: the cost estimates are good to about 3× (benchmarks/bench_costs.py), so a smaller estimated
+#: gain is not a real one, and exact numbers are worth that much.
+APPROXIMATE_ADVANTAGE = 3.0
 
 
 def _boundary_sites(network, indices):
@@ -47,18 +49,29 @@ def restricted_modes_estimate(n, boundary, tol):
     Measured on 3-D balls (benchmarks/bench_restricted.py): 1.5 × the boundary sites for
     threshold 1e-6, 2.0 × for 1e-10, 2.2 × for 1e-12 (the default threshold is tol/100).
     """
-    per_site = 1.0 + 0.125 * max(0.0, -np.log10(tol))
+    per_site = (cost("spectrum.restricted_modes_base")
+                + cost("spectrum.restricted_modes_per_decade") * max(0.0, -np.log10(tol)))
     return float(min(n, max(64.0, per_site * boundary)))
 
 
 def dense_spectrum_seconds(n):
     """Estimated seconds of a dense symplectic eigenproblem of ``n`` sites."""
-    return _DENSE_SECONDS_PER_FLOP * 4.0 * float(n) ** 3
+    return cost("spectrum.dense_flop") * 4.0 * float(n) ** 3
 
 
 def _restricted_seconds(n, m):
     # two products with n×n blocks per Lanczos vector plus full reorthogonalisation (CGS2)
-    return _RESTRICTED_SECONDS_PER_FLOP * (4.0 * float(n) ** 2 * m + 4.0 * float(n) * m * m)
+    return cost("spectrum.restricted_flop") * (4.0 * float(n) ** 2 * m + 4.0 * float(n) * m * m)
+
+
+def _restricted_run_seconds(backend, network, indices, m):
+    """Estimated seconds of the restricted solver beyond the backend's block/trace gathering:
+    two operator products per Lanczos vector, and the reorthogonalisation (4 n m² flops)."""
+    n = float(indices.size)
+    products = getattr(backend, "product_seconds", None)
+    per_vector = (products(network, indices) if products is not None
+                  else 2.0 * cost("spectral.dense_product_entry") * n * n)
+    return m * per_vector + cost("spectrum.restricted_flop") * 4.0 * n * m * m
 
 
 def restricted_plan(network, indices, tol, temperature=0.0):
@@ -120,6 +133,8 @@ class Method:
     name = "abstract"
     #: Whether :meth:`blocks` serves correlator blocks (needed by the logarithmic negativity).
     provides_blocks = False
+    #: True when the spectrum is exact to rounding (no quadrature or truncation at ``tol``).
+    exact = False
 
     def assess(self, network, regions, *, tol, temperature=0.0):
         raise NotImplementedError
@@ -148,6 +163,10 @@ class BlockMethod(Method):
         self.backend = get_backend(backend_name)
         self.name = self.backend.name
 
+    @property
+    def exact(self):
+        return bool(getattr(self.backend, "exact", False))
+
     def assess(self, network, regions, *, tol, temperature=0.0):
         if any(r.size == 0 for r in regions):
             return Assessment(False, "a region with infinitely many sites (no site list) is "
@@ -167,11 +186,12 @@ class BlockMethod(Method):
         m = None if self.restricted_solver is None else restricted_plan(network, big.indices, tol,
                                                                         temperature)
         if m is not None:
-            cost = a.seconds + len(regions) * _restricted_seconds(n_max, m)
+            secs = a.seconds + len(regions) * _restricted_run_seconds(self.backend, network,
+                                                                      big.indices, m)
             need = self.backend.operator_bytes(network, big.indices) + 16.0 * n_max * m
-            return Assessment(True, a.reason + "; restricted Lanczos spectrum", need, cost)
-        cost = a.seconds + len(regions) * dense_spectrum_seconds(n_max)
-        return Assessment(True, a.reason, max(a.bytes, _dense_spectrum_bytes(n_max)), cost)
+            return Assessment(True, a.reason + "; restricted Lanczos spectrum", need, secs)
+        secs = a.seconds + len(regions) * dense_spectrum_seconds(n_max)
+        return Assessment(True, a.reason, max(a.bytes, _dense_spectrum_bytes(n_max)), secs)
 
     def spectrum(self, network, region, *, tol, temperature=0.0):
         n = region.size
@@ -246,19 +266,26 @@ def choose_method(network, regions, method="auto", *, tol, blocks=False, tempera
                             for name, m in sorted(_METHODS.items())
                             if m.provides_blocks or not blocks)
         raise UnsupportedMethodError(f"no method can serve this case ({reasons})")
-    m, a = best
-    return Choice(m, f"auto: {a.reason} (estimated {a.seconds:.2g} s)")
+    m, a, note = best
+    return Choice(m, f"auto: {a.reason} (estimated {a.seconds:.2g} s{note})")
 
 
 def _best(network, regions, tol, blocks=False, temperature=0.0):
-    scored = []
+    """(method, assessment, note): the cheapest exact method unless an approximate one is
+    estimated APPROXIMATE_ADVANTAGE times cheaper; None if no method can serve."""
+    scored = {True: [], False: []}
     for order, m in enumerate(_METHODS.values()):
         if blocks and not m.provides_blocks:
             continue
         a = m.assess(network, regions, tol=tol, temperature=temperature)
         if a.ok:
-            scored.append((a.seconds, order, m, a))
-    if not scored:
+            scored[bool(m.exact)].append((a.seconds, order, m, a))
+    best = {k: min(v, key=lambda s: (s[0], s[1])) if v else None for k, v in scored.items()}
+    exact, approx = best[True], best[False]
+    if exact is None and approx is None:
         return None
-    _, _, m, a = min(scored, key=lambda s: (s[0], s[1]))
-    return m, a
+    if exact is None or (approx is not None and approx[0] * APPROXIMATE_ADVANTAGE < exact[0]):
+        return approx[2], approx[3], ""
+    note = (f"; exact, preferred to {approx[2].name!r} at {approx[0]:.2g} s"
+            if approx is not None and approx[0] < exact[0] else "")
+    return exact[2], exact[3], note

@@ -25,6 +25,7 @@ import math
 import numpy as np
 import scipy.special
 
+from .._costs import cost
 from .._numerics import EPS
 from .._errors import ConvergenceError, UnsupportedMethodError
 from ..network._lattices import HypercubicLattice, hypercubic
@@ -228,7 +229,8 @@ class TransverseMethod(Method):
             return Assessment(False, _THERMAL_REFUSAL)
         axes = geos[0][0]
         n_normal = float(np.prod([lat.shape[a] for a in axes]))
-        chain = 3e-9 * n_normal**3 + 2e-4 if math.isfinite(n_normal) else 1e-4
+        chain = (cost("transverse.chain_cube") * n_normal**3 + cost("transverse.chain_overhead")
+                 if math.isfinite(n_normal) else cost("transverse.bz_point"))
         transverse = [lat.shape[a] for a in _transverse_axes(lat, axes)]
         if all(math.isfinite(n) for n in transverse):
             n_k = int(np.prod([n // 2 + 1 for n in transverse])) if transverse else 1

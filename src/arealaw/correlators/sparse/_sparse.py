@@ -38,6 +38,7 @@ from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
 from ..._errors import UnsupportedMethodError
+from ..._costs import cost
 from ..._numerics import EPS, available_bytes, fits_in_memory, format_bytes, require_memory
 from .._base import Assessment, Blocks, CorrelatorBackend
 from .._temperature import check_temperature
@@ -51,7 +52,7 @@ __all__ = ["IllConditionedWarning", "SparseBackend"]
 #: Condition numbers above this trigger :class:`IllConditionedWarning`.
 ILL_CONDITIONED = 1e8
 #: Multishift CG costs ~½√κ ln(2/ε) matrix products per column, AMG-CG ~ 8 ln(2/ε) per shift.
-_AMG_WORK_PER_SHIFT = 8.0
+_AMG_WORK_PER_SHIFT = cost("sparse.amg_work_per_shift")
 #: Most poles of the thermal (Matsubara) rule; lower temperatures are refused.
 _MAX_THERMAL_POLES = 400
 #: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
@@ -139,7 +140,9 @@ class SparseBackend(CorrelatorBackend):
                                          "'spectral'")
         n_rhs = min(n_rows, 2 * d * max(n_rows, 1) ** ((d - 1) / d)) if n_rows < n else 0
         iters = 0.5 * math.sqrt(kappa) * math.log(2 / tol)
-        seconds = 3e-9 * nnz * n_rhs * iters + 3e-10 * n_rows ** 3 * 10 + 1e-6 * nnz
+        seconds = (cost("sparse.cg_entry") * nnz * n_rhs * iters
+                   + cost("sparse.dense_cube") * float(n_rows) ** 3
+                   + cost("sparse.overhead") + cost("sparse.setup_nnz") * nnz)
         bs, jobs = self._block_plan(n, max(int(n_rhs), 1), nnz)
         nbytes = _BYTES_PER_ENTRY * n * bs * jobs + 36.0 * nnz * (jobs + 1) + 8.0 * 3 * n_rows ** 2
         if not fits_in_memory(nbytes):

@@ -11,6 +11,7 @@ import math
 import numpy as np
 
 from ..._errors import UnsupportedMethodError
+from ..._costs import cost
 from ..._numerics import available_bytes, require_memory
 from .._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
 from .._temperature import check_temperature
@@ -22,11 +23,6 @@ __all__ = ["SpectralBackend", "spectral_correlators", "spectral_trace"]
 
 _CHUNK = 2_000_000      # block entries gathered per chunk
 _TABLE_LIMIT = 40_000_000  # table entries (per kind) before refusing
-#: Seconds per grid point per vector of an FFT box product, and per entry per vector of a
-#: dense block product, inside the restricted solver (one BLAS thread; 3-D balls of radius 10
-#: and 12 in benchmarks/bench_restricted.py)
-FFT_SECONDS_PER_POINT = 3e-8
-DENSE_SECONDS_PER_ENTRY = 6e-11
 
 
 class _Plan:
@@ -217,6 +213,8 @@ class SpectralBackend(CorrelatorBackend):
     """
 
     name = "spectral"
+    #: Correlators exact to rounding (``method='auto'`` prefers exact methods).
+    exact = True
 
     def __init__(self, *, operators="auto"):
         if operators not in ("auto", "fft", "dense"):
@@ -234,7 +232,8 @@ class SpectralBackend(CorrelatorBackend):
         # gathers of the block, plus the per-axis mode sums (≈ 500 nodes × modes × arguments)
         modes = sum(0 if math.isinf(s) else int(s) // 2 + 1 for s in lat.shape)
         span = max(min(4 * n, 4 * s) for s in lat.shape)
-        secs = 5e-3 + 1.5e-8 * terms * n * n + 1e-6 * modes * span
+        secs = (cost("spectral.overhead") + cost("spectral.entry") * n * n
+                + cost("spectral.mode_sum") * modes * span)
         shape = "x".join("inf" if math.isinf(s) else str(int(s)) for s in lat.shape)
         return Assessment(True, f"exact heat-kernel quadrature on the uniform {shape} lattice",
                           need, secs)
@@ -265,6 +264,14 @@ class SpectralBackend(CorrelatorBackend):
         fft, _ = self._choose(network, rows)
         return _box_cost(network, rows)[0] if fft else 16.0 * float(rows.size) ** 2
 
+    def product_seconds(self, network, rows):
+        """Estimated seconds to apply X_A and P_A to one vector (as :meth:`operators` would)."""
+        rows = np.asarray(rows, dtype=np.int64).ravel()
+        fft, _ = self._choose(network, rows)
+        if fft:
+            return 2.0 * _box_cost(network, rows)[1]
+        return 2.0 * cost("spectral.dense_product_entry") * float(rows.size) ** 2
+
     def _choose(self, network, rows):
         if self.operator_kind != "auto":
             return self.operator_kind == "fft", f"requested operators={self.operator_kind!r}"
@@ -276,7 +283,7 @@ def _box_cost(network, rows):
     coords = network.coords(rows)
     widths = coords.max(axis=0) - coords.min(axis=0) + 1
     terms = 2 ** sum(b in ("dirichlet", "open") for b in network.lattice.boundaries)
-    return box_operator_bytes(widths, terms), FFT_SECONDS_PER_POINT * box_grid_points(widths)
+    return box_operator_bytes(widths, terms), cost("spectral.fft_point") * box_grid_points(widths)
 
 
 def _choose_operators(network, rows):
@@ -284,7 +291,7 @@ def _choose_operators(network, rows):
     n = float(rows.size)
     dense_bytes = 16.0 * n * n
     box_bytes, box_secs = _box_cost(network, rows)
-    dense_secs = DENSE_SECONDS_PER_ENTRY * n * n
+    dense_secs = cost("spectral.dense_product_entry") * n * n
     if dense_bytes > 0.3 * available_bytes() and box_bytes < dense_bytes:
         return True, "dense region blocks would not fit in memory"
     if box_secs < dense_secs:
