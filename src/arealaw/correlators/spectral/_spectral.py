@@ -226,7 +226,6 @@ class SpectralBackend(CorrelatorBackend):
         if why:
             return Assessment(False, why)
         lat = network.lattice
-        terms = 2 ** sum(b in ("dirichlet", "open") for b in lat.boundaries)
         n = float(n_rows)
         need = 2 * 8.0 * n * n + 8 * 8.0 * min(n * n, _CHUNK) + 8.0 * 64 * n * 8
         # gathers of the block, plus the per-axis mode sums (≈ 500 nodes × modes × arguments)
