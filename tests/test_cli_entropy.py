@@ -32,6 +32,17 @@ def test_json_keys_and_value(capsys):
     assert set(d["renyi"]) == {"2", "inf"} and d["sites"] == 100 and d["region_sites"] == 50
 
 
+def test_plan_assesses_without_computing(capsys):
+    code, out, _ = run_cli(capsys, "entropy", "--shape", "1000", "1000", "1000", "--box", "10",
+                           "10", "10", "--plan", "--json")
+    d = json.loads(out)
+    assert code == 0 and d["method"] == "spectral" and d["sites"] == 10**9
+    assert d["estimated_seconds"] > 0 and d["estimated_bytes"] > 0 and "entropy" not in d
+    code, out, _ = run_cli(capsys, "entropy", "--shape", "40", "--box", "5", "--method", "sparse",
+                           "--plan")
+    assert code == 0 and "requested" in out and "nothing computed" in out
+
+
 def test_mutual_information_keys(capsys):
     code, out, _ = run_cli(capsys, "entropy", "--shape", "40", "--mass", "0.2", "--box", "5",
                            "--origin", "5", "--box-b", "5", "--origin-b", "20", "--json",

@@ -157,3 +157,14 @@ def test_load_network(tmp_path):
     (tmp_path / "bad.npz").write_text("nope")
     with pytest.raises(ValueError, match="not a scipy.sparse"):
         al.load_network(tmp_path / "bad.npz")
+
+
+def test_centred_box_on_infinite_axes_names_no_position():
+    # a centred box on an infinite axis has no meaningful coordinate there (translation
+    # invariance): the description says "centred", finite axes keep their coordinates
+    from arealaw import box, hypercubic
+    assert box(hypercubic(("inf",) * 3, mass=0.5), 3).description == "box 3x3x3 centred (any,any,any)"
+    mixed = box(hypercubic((20, "inf"), mass=0.5), (4, 3))
+    assert mixed.description == "box 4x3 centred (8,any)"
+    assert box(hypercubic((10,), mass=0.5), 4).description == "box 4 at (3)"
+    assert box(hypercubic(("inf",), mass=0.5), 4, origin=0).description == "box 4 at (0)"

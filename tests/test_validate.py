@@ -53,6 +53,34 @@ def test_every_reference_names_a_source():
     assert {r.case for r in references(quick=True)} < {r.case for r in references()}
 
 
+def test_reference_kinds_are_kept_apart(monkeypatch, capsys):
+    # a computed regression value or a value from memory is not shown as "published"
+    table = (Reference("pub", lambda: 1.0, 1.0, 1e-3, "Author 2000, J. X 1 (eq. 2)"),
+             Reference("reg", lambda: 1.0, 1.0, 1e-3, "computed (independent dense calculation)"),
+             Reference("mem", lambda: 1.0, 1.0, 1e-3, "Author 2001 (value from memory)"),
+             Reference("id (ratio)", lambda: 1.0, 1.0, 1e-3, "Author 2002 (exact relation)"))
+    assert [r.kind for r in table] == ["published", "computed", "memory", "identity"]
+    with pytest.raises(ValueError, match="kind='guess'"):
+        Reference("bad", lambda: 1.0, 1.0, 1e-3, "common practice, no source", kind="guess")
+    monkeypatch.setattr(validation, "REFERENCES", table)
+    assert main(["validate", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert [r["kind"] for r in doc["rows"]] == ["published", "computed", "memory", "identity"]
+    assert [r["published"] for r in doc["rows"]] == [1.0, None, None, None]
+    assert all(r["reference"] == 1.0 for r in doc["rows"])
+    assert doc["kinds"] == {"published": 1, "identity": 1, "computed": 1, "memory": 1}
+    assert main(["validate"]) == 0
+    out = capsys.readouterr().out
+    assert out.count("published 1") == 1 and "computed reference 1" in out
+    assert "from memory 1" in out and "exact identity 1" in out
+
+
+def test_every_real_reference_has_a_kind():
+    kinds = {r.kind for r in references()}
+    assert kinds <= {"published", "identity", "computed", "memory"} and "published" in kinds
+    assert all(r.kind == "computed" for r in references() if r.source.startswith("computed"))
+
+
 @pytest.mark.slow
 def test_full_table_passes():
     # Every published reference value (shared/REFERENCES.md; sources in each row), full mode.

@@ -4,7 +4,7 @@ import math
 
 from .._entropy import entropy
 from .._numerics import DEFAULT_TOL
-from ..methods._registry import method_names
+from ..methods._registry import choose_method, method_names
 from ..methods import radial_lattice, shells
 from ..network._specs import network_from_spec, region_from_spec
 from ._common import HelpFormatter, parse_extent, parse_order, print_json
@@ -12,7 +12,9 @@ from ._common import HelpFormatter, parse_extent, parse_order, print_json
 __all__ = ["register"]
 
 EPILOG = """examples:
-  arealaw entropy --shape 100 --mass 0.01 --box 50            half of a massive chain
+  arealaw entropy --shape 100 --mass 0.01 --box 50 --origin 0  half of a massive chain
+  arealaw entropy --shape 100 --mass 0.01 --box 50            middle half (two cuts)
+  arealaw entropy --shape 1000 1000 1000 --box 10 10 10 --plan  method, estimated time, memory
   arealaw entropy --shape 20 20 20 --box 10 10 10 --renyi 2 inf
   arealaw entropy --shape 30 30 --mass 0.1 --boundary periodic dirichlet --ball 6 --json
   arealaw entropy --shape 40 --mass 0.2 --box 5 --origin 5 --box-b 5 --origin-b 20
@@ -97,6 +99,9 @@ def register(sub):
     out.add_argument("--tol", type=float, default=DEFAULT_TOL,
                      help=f"target accuracy of the correlators (default {DEFAULT_TOL:g})")
     out.add_argument("--json", action="store_true", help="print one JSON object")
+    out.add_argument("--plan", action="store_true",
+                     help="only assess: print the method that would run, why, its estimated "
+                          "time and memory, and compute nothing")
     p.set_defaults(func=run)
 
 
@@ -155,7 +160,27 @@ def run(args):
     return _report(args, net, region, region_b)
 
 
+def _plan(args, net, region, region_b):
+    regions = [region] if region_b is None else [region, region_b]
+    choice = choose_method(net, regions, args.method, tol=args.tol, blocks=args.negativity,
+                           temperature=args.temperature)
+    a = choice.method.assess(net, regions, tol=args.tol, temperature=args.temperature)
+    out = {"method": choice.method.name, "reason": choice.reason,
+           "estimated_seconds": a.seconds, "estimated_bytes": a.bytes,
+           "region": region.description, "region_sites": region.size,
+           "sites": "inf" if net.n_sites is None else net.n_sites}
+    if args.json:
+        print_json(out)
+    else:
+        print(f"method           {out['method']} — {out['reason']}\n"
+              f"region           {out['region']} ({out['region_sites']} sites)\n"
+              f"estimate         {a.seconds:.2g} s, {a.bytes / 2**30:.2g} GiB (nothing computed)")
+    return 0
+
+
 def _report(args, net, region, region_b):
+    if args.plan:
+        return _plan(args, net, region, region_b)
     res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
                   tol=args.tol, energies=args.energies, negativity=args.negativity,
                   temperature=args.temperature)

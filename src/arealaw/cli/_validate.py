@@ -2,7 +2,7 @@
 
 import sys
 
-from ..workflow._validation import references, run_validation
+from ..workflow._validation import KINDS, references, run_validation
 from ._common import HelpFormatter, print_json
 
 __all__ = ["register"]
@@ -33,7 +33,7 @@ def _line(row):
     kind = "rel" if row.relative else "abs"
     dev = "n/a" if row.deviation is None else f"{row.deviation:.2g}"
     status = "PASS" if row.passed else "FAIL"
-    text = (f"{status}  {row.case}\n      computed {_num(row.computed)}  published "
+    text = (f"{status}  {row.case}\n      computed {_num(row.computed)}  {KINDS[row.kind]} "
             f"{_num(row.published)}  deviation {dev} ({kind}, tolerance {row.tolerance:.2g})"
             f"  {row.seconds:.2g} s\n      source: {row.source}")
     if row.error:
@@ -50,9 +50,11 @@ def run(args):
               + (" (quick subset)" if args.quick else ""))
         rows = run_validation(refs, progress=lambda row: (print(_line(row)), sys.stdout.flush()))
     failed = sum(not r.passed for r in rows)
+    kinds = {k: sum(r.kind == k for r in rows) for k in KINDS}
     if args.json:
         print_json({"rows": [r.to_dict() for r in rows], "passed": len(rows) - failed,
-                    "failed": failed})
+                    "failed": failed, "kinds": kinds})
     else:
-        print(f"{len(rows) - failed} passed, {failed} failed")
+        print(f"{len(rows) - failed} passed, {failed} failed; reference values: "
+              + ", ".join(f"{n} {KINDS[k]}" for k, n in kinds.items()))
     return 1 if failed else 0

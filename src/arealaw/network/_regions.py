@@ -154,7 +154,8 @@ def box(network, size, origin=None):
     shape = _lattice_shape(check_network(network), "box")
     d = len(shape)
     size = int_vector(size, d, "box size", minimum=1)
-    if origin is None:
+    centred = origin is None
+    if centred:
         ext = [(_finite_extent(network, a) or 2 * int(size[a])) for a in range(d)]
         origin = [(e - s) // 2 for e, s in zip(ext, size)]
     origin = int_vector(origin, d, "box origin")
@@ -168,6 +169,11 @@ def box(network, size, origin=None):
     grids = np.meshgrid(*[np.arange(o, o + s) for o, s in zip(origin, size)], indexing="ij")
     idx = np.ravel_multi_index([g.ravel() for g in grids], shape)
     desc = "box " + "x".join(map(str, size)) + " at (" + ",".join(map(str, origin)) + ")"
+    if centred and any(_finite_extent(network, a) is None for a in range(d)):
+        # on an infinite axis every position is equivalent: the working coordinates mean nothing
+        desc = ("box " + "x".join(map(str, size)) + " centred ("
+                + ",".join(str(o) if _finite_extent(network, a) is not None else "any"
+                           for a, o in enumerate(origin)) + ")")
     return _make(network, idx, desc, ("box", tuple(size.tolist()), tuple(origin.tolist())))
 
 

@@ -3,7 +3,11 @@
 Each :class:`Reference` names its case, a zero-argument function computing the value with
 arealaw, the value it is compared with, a tolerance (absolute, or relative when ``relative``),
 and its source (authors, year, equation or table; "computed" marks regression values from an
-independent dense calculation, "value from memory" where no precise location is known).
+independent dense calculation, "value from memory" where no precise location is known).  Its
+``kind`` says which of these the reference value is: ``'published'`` (a value stated in the
+source), ``'identity'`` (an exact relation between two routes, e.g. a ratio of 1, with the
+source of the relation), ``'computed'`` (a regression value, no publication) or ``'memory'``
+(a published value quoted from memory); by default it is read from the source text.
 :func:`run_validation` evaluates the table (``quick=True``: the subset that runs in well under two
 minutes) and returns :class:`ValidationRow` objects; ``arealaw validate`` prints them.
 """
@@ -19,7 +23,22 @@ try:  # the sparse backend's contour rule (Hale, Higham & Trefethen 2008)
 except ImportError:  # pragma: no cover - a tree without the sparse backend
     inverse_sqrt_rule = None
 
-__all__ = ["REFERENCES", "Reference", "ValidationRow", "references", "run_validation"]
+__all__ = ["KINDS", "REFERENCES", "Reference", "ValidationRow", "references", "run_validation"]
+
+#: Kinds of reference value, with the words ``arealaw validate`` prints before the value.
+KINDS = {"published": "published", "identity": "exact identity", "computed": "computed reference",
+         "memory": "from memory"}
+
+
+def _kind(source, case):
+    text = source.lower()
+    if text.startswith("computed"):
+        return "computed"
+    if "value from memory" in text:
+        return "memory"
+    if "(ratio)" in case:
+        return "identity"
+    return "published"
 
 
 @dataclass(frozen=True)
@@ -33,6 +52,13 @@ class Reference:
     source: str
     relative: bool = False
     quick: bool = True
+    kind: str = None
+
+    def __post_init__(self):
+        kind = _kind(self.source, self.case) if self.kind is None else self.kind
+        if kind not in KINDS:
+            raise ValueError(f"kind={kind!r} is not one of {', '.join(KINDS)}")
+        object.__setattr__(self, "kind", kind)
 
 
 @dataclass
@@ -49,9 +75,15 @@ class ValidationRow:
     passed: bool
     seconds: float
     error: str = None
+    kind: str = "published"
 
     def to_dict(self):
+        """JSON form: ``reference`` is the value compared with and ``kind`` what it is;
+        ``published`` holds it only when it is a published value (else None)."""
         d = dict(self.__dict__)
+        d["reference"] = self.published
+        if self.kind != "published":
+            d["published"] = None
         d["status"] = "PASS" if self.passed else "FAIL"
         for k in ("computed", "deviation"):
             if d[k] is not None and not math.isfinite(d[k]):
@@ -267,12 +299,13 @@ def _evaluate(ref):
     except (ValueError, ArithmeticError, MemoryError, RuntimeError) as exc:
         return ValidationRow(ref.case, None, ref.published, None, ref.tolerance, ref.relative,
                              ref.source, False, time.perf_counter() - t0,
-                             f"{type(exc).__name__}: {exc}")
+                             f"{type(exc).__name__}: {exc}", ref.kind)
     dev = abs(value - ref.published)
     if ref.relative:
         dev = dev / abs(ref.published)
     return ValidationRow(ref.case, value, ref.published, dev, ref.tolerance, ref.relative,
-                         ref.source, bool(dev <= ref.tolerance), time.perf_counter() - t0)
+                         ref.source, bool(dev <= ref.tolerance), time.perf_counter() - t0,
+                         kind=ref.kind)
 
 
 def run_validation(refs=None, *, quick=False, progress=None):
