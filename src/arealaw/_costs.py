@@ -73,11 +73,13 @@ COSTS = {
         4e-7, "second per (axis mode × separation) of the per-axis mode sums",
         f"{_BENCH} spectral-chain-2000, spectral-3d-box", "2026-12-03"),
     "spectral.fft_point": CostConstant(
-        5e-8, "second per bounding-box grid point per vector of an FFT box product",
-        f"{_BENCH} restricted-fft-* (timed products)", "2026-12-03"),
+        3e-8, "second per bounding-box grid point per vector of an FFT box product",
+        "benchmarks/bench_restricted.py (balls R = 10, 12, FFT and dense blocks in one run; "
+        "bench_costs.py restricted-* agree within 2x under load)", "2026-12-01"),
     "spectral.dense_product_entry": CostConstant(
-        2e-10, "second per block entry per vector of a dense block product",
-        f"{_BENCH} restricted-dense-chain (timed products)", "2026-12-03"),
+        6e-11, "second per block entry per vector of a dense block product (its ratio to "
+        "fft_point decides FFT against dense operators)",
+        "benchmarks/bench_restricted.py (balls R = 10, 12, same run as fft_point)", "2026-12-01"),
     # sparse backend (contour quadrature, shifted CG)
     "sparse.cg_entry": CostConstant(
         3e-10, "second per (nonzero × right-hand side × CG iteration)",
