@@ -10,8 +10,9 @@ from ._radial import (RadialLattice, RadialMethod, radial_chain, radial_entropy,
                       shells)
 from ._registry import BlockMethod, Method, choose_method, method_names, register_method
 from ._transverse import TransverseMethod, half_chain_spectrum
+from ._two_point import TwoPointMethod, two_point_spectrum
 
 __all__ = sorted([
     "BlockMethod", "Method", "choose_method", "method_names", "register_method", "RadialLattice", "RadialMethod", "radial_chain", "radial_entropy", "radial_lattice",
-    "TransverseMethod", "half_chain_spectrum", "shells",
+    "TransverseMethod", "TwoPointMethod", "half_chain_spectrum", "shells", "two_point_spectrum",
 ])

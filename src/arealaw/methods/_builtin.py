@@ -8,6 +8,7 @@ from ._registry import BlockMethod, register_method
 from ._reflections import ReflectionBlockMethod
 from ._radial import RadialMethod
 from ._transverse import TransverseMethod
+from ._two_point import TwoPointMethod
 
 __all__ = []
 
@@ -16,3 +17,4 @@ register_method(RadialMethod())
 register_method(TransverseMethod())
 register_method(BlockMethod("sparse"))
 register_method(ReflectionBlockMethod("spectral"))
+register_method(TwoPointMethod())  # a cross-check: auto picks it only if it were cheapest
