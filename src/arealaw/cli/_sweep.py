@@ -131,7 +131,7 @@ def _fit_options(p, family=True):
     if family:
         p.add_argument("--family", help="only this family")
     p.add_argument("--measure", default="entropy", metavar="M",
-                   help="entropy (default) or renyi:N, e.g. renyi:2")
+                   help="entropy (default), renyi:N (e.g. renyi:2) or log_negativity")
     p.add_argument("--power", nargs="+", type=float, default=[], metavar="P",
                    help="extra correction terms R^P (e.g. 1 or -1)")
     p.add_argument("--endpoints", type=int, choices=(1, 2), default=2,
@@ -190,9 +190,10 @@ def _flat(row):
         out[f"renyi_{k}"] = v
     for k, v in (row.get("renyi_stderr") or {}).items():
         out[f"renyi_{k}_stderr"] = v
-    for k in ("mutual_information", "mutual_information_error_bound", "boundary_bonds",
-              "seconds", "computed_at", "run_id", "version", "realisations", "entropy_stderr",
-              "mutual_information_stderr"):
+    for k in ("mutual_information", "mutual_information_error_bound", "log_negativity",
+              "log_negativity_error_bound", "boundary_bonds", "seconds", "computed_at", "run_id",
+              "version", "realisations", "entropy_stderr", "mutual_information_stderr",
+              "log_negativity_stderr"):
         out[k] = row.get(k)
     return out
 
@@ -219,15 +220,21 @@ def cmd_results(args):
         print(f"store {args.store}: no results")
         return 0
     ensembles = any(r.get("realisations") for r in flat)
+    neg = any(r["log_negativity"] is not None for r in flat)
     print(f"{'case':16}  {'family':14}  {'label':16}  {'sites':>6}  {'entropy':>14}  "
-          f"{'error':>8}  " + ("   n  std.err   " if ensembles else "") + "method")
+          f"{'error':>8}  " + ("   n  std.err   " if ensembles else "")
+          + (f"{'log neg.':>14}  {'error':>8}  " if neg else "") + "method")
     for r in flat:
         mean = (f"{r['realisations'] or 1:>4}  {r['entropy_stderr'] or 0.0:>8.2g}  "
                 if ensembles else "")
         entropy = "n/a" if r["entropy"] is None else f"{r['entropy']:.10g}"
+        en = ""
+        if neg:
+            en = (f"{r['log_negativity']:>14.10g}  {r['log_negativity_error_bound']:>8.2g}  "
+                  if r["log_negativity"] is not None else f"{'—':>14}  {'':>8}  ")
         print(f"{r['case']:16}  {r['family'][:14]:14}  {r['label'][:16]:16}  "
               f"{r['region_sites']:>6}  {entropy:>14}  {r['error_bound']:>8.2g}  "
-              f"{mean}{r['method']}")
+              f"{mean}{en}{r['method']}")
     return 0
 
 

@@ -178,6 +178,10 @@ def _setup(rows):
         measures.append("Rényi S_n, n = " + ", ".join(orders))
     if specs[0].get("region_b"):
         measures.append("S_B, S_AB, mutual information I(A:B)")
+    if any(r.get("log_negativity") is not None for r in rows):
+        measures.append("logarithmic negativity E_N" + (" of A against the rest of the lattice"
+                                                        if rows[0].get("log_negativity_partner")
+                                                        else "(A:B)"))
     energies = max(s.get("energies", 0) for s in specs)
     if energies:
         measures.append("the whole entanglement spectrum" if energies >= ALL_ENERGIES
@@ -317,6 +321,25 @@ def _figure_html(fig_dir, name, slug, caption, make, formats, written):
     return f'<img alt="{html.escape(caption)}" src="data:image/png;base64,{data}">'
 
 
+def _negativity_section(rows, pair, powers, endpoints, size):
+    """E_N per case with its bound and, for a swept family, its fit (the entropy's law)."""
+    what = "" if pair else " of the region against the rest of the lattice"
+    parts = [f"<h3>Logarithmic negativity{what}</h3>",
+             _table(["point", "x", "E_N", "E_N error bound"],
+                    [[r["label"], r.get("x"), r["log_negativity"],
+                      r["log_negativity_error_bound"]] for r in rows])]
+    swept = [r for r in rows if r.get("x") is not None]
+    if pair or len({r["x"] for r in swept}) < 3:
+        return parts
+    dim = rows[0].get("dim") or 1
+    try:
+        fit = fit_rows(swept, measure="log_negativity", powers=powers, endpoints=endpoints,
+                       size="x" if size == "bonds" and dim < 2 else size)
+    except ValueError as exc:
+        return parts + [f'<p class="note">no fit of E_N: {html.escape(str(exc))}</p>']
+    return parts + [f"<p>Fit of E_N: {html.escape(_fit_text(fit))}</p>", _fit_table(fit)]
+
+
 def _ensemble_table(means, pair):
     key = "mutual_information" if pair else "entropy"
     body = [[m["label"], m.get("x"), m.get("realisations", 1), m.get(key),
@@ -382,6 +405,9 @@ def write_report(store, path, *, title="", powers=(), endpoints=2, size="x", fig
             if fit.central_charge is not None:
                 parts.append(f"<p>central charge c = {fit.central_charge:.5g} ± "
                              f"{fit.central_charge_stderr:.2g} ({fit.endpoints} endpoint(s))</p>")
+        neg_rows = [r for r in grp if r.get("log_negativity") is not None]
+        if neg_rows:
+            parts += _negativity_section(neg_rows, pair, powers, endpoints, size)
         grp_means = average_realisations(grp)
         if pair or any(m.get("realisations") for m in grp_means):
             parts.append("<h3>" + ("Ensemble means" if any(m.get("realisations")

@@ -16,6 +16,7 @@ __all__ = ["average_realisations", "ensemble_sigma", "split_seed"]
 
 #: Measures averaged over realisations, each with its error bound's key.
 MEASURES = {"entropy": "error_bound", "mutual_information": "mutual_information_error_bound",
+            "log_negativity": "log_negativity_error_bound",
             "entropy_b": None, "entropy_ab": None, "entropy_per_area": None}
 
 _SEED = re.compile(r"(^|,\s*|\s\|\s)seed=([^,|\s]+)")

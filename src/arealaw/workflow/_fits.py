@@ -335,8 +335,9 @@ def _law(dim, powers, size="x"):
 def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_drop=3):
     """Fit stored sweep rows (dicts with ``x``, ``dim`` and the measure) of one family.
 
-    ``measure`` is ``'entropy'`` or ``'renyi:N'`` (e.g. ``'renyi:2'``); the error bounds stored
-    with each value are the weights.  Disorder ensembles (a swept seed) are averaged first
+    ``measure`` is ``'entropy'``, ``'renyi:N'`` (e.g. ``'renyi:2'``) or ``'log_negativity'``
+    (families with ``negativity = true``: E_N of the region against the rest; pairs: E_N(A:B));
+    the error bounds stored with each value are the weights.  Disorder ensembles (a swept seed) are averaged first
     (:func:`~arealaw.workflow._ensembles.average_realisations`): their weights are the mean
     bound and the standard error of the mean in quadrature.  ``size='x'`` fits against the swept value (ball radius,
     box side); ``size='bonds'`` (d ≥ 2) against the area-equivalent size R = B^{1/(d−1)} of the
@@ -369,8 +370,16 @@ def fit_rows(rows, *, measure="entropy", size="x", powers=(), endpoints=2, max_d
         vals = [r["renyi"][order] for r in pts]
         errs = [ensemble_sigma(r["renyi_error_bound"][order],
                                (r.get("renyi_stderr") or {}).get(order)) for r in pts]
+    elif measure == "log_negativity":
+        if any(r.get("log_negativity") is None for r in pts):
+            raise ValueError("measure 'log_negativity' was not computed for this family; add "
+                             "negativity = true to it in the scenario")
+        vals = [r["log_negativity"] for r in pts]
+        errs = [ensemble_sigma(r["log_negativity_error_bound"], r.get("log_negativity_stderr"))
+                for r in pts]
     else:
-        raise ValueError(f"measure {measure!r} is not known; allowed: entropy, renyi:N")
+        raise ValueError(f"measure {measure!r} is not known; allowed: entropy, renyi:N, "
+                         "log_negativity")
     dim = dims.pop()
     if size == "bonds":
         if dim < 2 or any(r.get("boundary_bonds") in (None, 0) for r in pts):

@@ -36,6 +36,8 @@ Layout::
     tol = 1e-10
     renyi = [2]
     energies = 8                     # or "all": the whole entanglement spectrum of each case
+    negativity = false               # true: also the logarithmic negativity E_N (a pair: A:B;
+                                     # a family: the region against the rest of the lattice)
     [lattices.cube]
     shape = [12, 12, 12]
     mass = 0.1
@@ -81,13 +83,9 @@ __all__ = ["Case", "Scenario", "build_network", "build_region", "case_hash", "lo
 
 TOP_KEYS = ("title", "out", "numerics", "lattices", "family", "pair")
 #: ``temperature`` (of the Gibbs state; 0 = ground state) may also be a sweep in a family or pair.
-NUMERICS_KEYS = ("method", "tol", "renyi", "energies", "temperature")
-#: Keys of measures not yet computed by sweeps: refused with this reason (a hook for
-#: negativity, which ``entropy()`` will take as an option).
-PLANNED_KEYS = {
-    "negativity": "the logarithmic negativity is not yet available in scenarios; use "
-                  "arealaw entropy --negativity for one pair",
-}
+NUMERICS_KEYS = ("method", "tol", "renyi", "energies", "temperature", "negativity")
+#: Keys of measures not yet computed by sweeps: refused with this reason (none at present).
+PLANNED_KEYS = {}
 SWEEP_CONTROL_KEYS = ("size", "tied", "vars")
 FAMILY_KEYS = ("name", "lattice") + SWEEP_CONTROL_KEYS + NUMERICS_KEYS
 PAIR_KEYS = ("name", "lattice", "a", "b") + SWEEP_CONTROL_KEYS + NUMERICS_KEYS
@@ -135,19 +133,22 @@ class Case:
     x: float = None
     lattice: str = ""
     version: str = field(default_factory=_version)
+    negativity: bool = False
 
     @property
     def key(self):
         return case_hash(self)
 
     def content(self):
-        """The dict the content hash is taken over (``temperature`` only when > 0, so ground-state
-        cases keep their keys)."""
+        """The dict the content hash is taken over (``temperature`` only when > 0 and
+        ``negativity`` only when set, so ground-state cases keep their keys)."""
         out = {"network": self.network, "region": self.region, "region_b": self.region_b,
                "renyi": [order_label(n) for n in self.renyi], "energies": self.energies,
                "method": self.method, "tol": self.tol, "version": self.version}
         if self.temperature:
             out["temperature"] = float(self.temperature)
+        if self.negativity:
+            out["negativity"] = True
         return out
 
     def to_dict(self):
@@ -275,7 +276,8 @@ def parse_scenario(text, *, source="", base=None):
             raise w.error(f"{key} = {val!r} must be a string", key)
     defaults = _numerics(data.get("numerics", {}), {"method": "auto", "tol": DEFAULT_TOL,
                                                     "renyi": [], "energies": 0,
-                                                    "temperature": 0.0}, w, "numerics")
+                                                    "temperature": 0.0, "negativity": False},
+                         w, "numerics")
     lattices = data.get("lattices")
     if not isinstance(lattices, dict) or not lattices:
         raise w.error("no lattice given: add a table [lattices.NAME] with shape = [...] "
@@ -350,6 +352,8 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
             raise w.error(f"energies = {val!r} must be a whole number >= 0 or \"all\" (the "
                           "whole entanglement spectrum, stored with each case)", key, header,
                           nth)
+        if key == "negativity" and not isinstance(val, bool):
+            raise w.error(f"negativity = {val!r} must be true or false", key, header, nth)
         if key == "renyi":
             vals = val if isinstance(val, list) else [val]
             try:
@@ -647,6 +651,11 @@ def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
                                     base)
             region, reg_a = _region_spec(spec_a, network, w, header, nth, "a")
             region_b, reg_b = _region_spec(spec_b, network, w, header, nth, "b")
+            shared = np.intersect1d(reg_a.indices, reg_b.indices)
+            if shared.size:
+                what = "the logarithmic negativity" if num["negativity"] else "mutual information"
+                raise w.error(f"[[pair]] {name!r}: regions a and b share {shared.size} sites; "
+                              f"{what} needs disjoint regions", "b", header, nth)
             sep, gap = region_separation(network, reg_a, reg_b)
             names.update({"separation": sep, "gap": gap} if sep is not None else {})
             default_x = sep
@@ -680,7 +689,8 @@ def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
                           renyi=list(num["renyi"]), energies=int(num["energies"]),
                           method=num["method"], tol=float(num["tol"]),
                           temperature=temperature, family=name,
-                          label=label, x=x, lattice=lattice))
+                          label=label, x=x, lattice=lattice,
+                          negativity=bool(num["negativity"])))
     return cases
 
 

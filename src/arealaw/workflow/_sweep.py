@@ -15,7 +15,7 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from .._entropy import entropy
-from ..network._regions import cut_couplings
+from ..network._regions import complement, cut_couplings
 from ._scenario import build_network, build_region
 from ._workers import WAIT, WorkerPool, usable_cores
 
@@ -61,9 +61,18 @@ def compute_case(case):
         network = _network(case.network)
         region = build_region(network, case.region)
         region_b = build_region(network, case.region_b) if case.region_b else None
+        against_rest = case.negativity and region_b is None
+        if against_rest:  # a family's region against the rest of the lattice
+            region_b = complement(network, region)
         res = entropy(network, region, region_b=region_b, renyi=case.renyi, method=case.method,
-                      tol=case.tol, energies=case.energies, temperature=case.temperature)
+                      tol=case.tol, energies=case.energies, temperature=case.temperature,
+                      negativity=case.negativity)
         out = res.to_dict()
+        if against_rest:  # the pair is only the negativity's: keep the row a family row
+            for k in ("entropy_b", "entropy_ab", "mutual_information",
+                      "mutual_information_error_bound", "region_b_sites", "region_b"):
+                out.pop(k, None)
+            out["log_negativity_partner"] = "rest of the lattice"
         out["dim"] = network.ndim
         out["boundary_bonds"] = (boundary_bonds(network, region)
                                  if network.n_sites is not None else None)
