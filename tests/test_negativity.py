@@ -152,3 +152,41 @@ def test_method_without_blocks_names_one_that_has_them():
     a, b = al.box(net, 2, origin=(0, 0, 0)), al.box(net, 2, origin=(3, 3, 3))
     with pytest.raises(al.UnsupportedMethodError, match="transverse.*no correlator blocks.*can"):
         al.logarithmic_negativity(net, a, b, method="transverse")
+
+
+def test_thermal_negativity_against_the_rest_tends_to_the_pure_value():
+    # A gapped chain (gap 0.8) at T = 0.02: the Gibbs state differs from the ground state by
+    # O(e^{-0.8/T}) ≈ 4e-18, so the partial transpose of the whole (mixed-route) state must give
+    # E_N = S_1/2(A) (Vidal & Werner 2002, PRA 65 032314) within the bounds.
+    net = al.hypercubic(30, mass=0.8)
+    a = al.box(net, 8, origin=6)
+    b = al.complement(net, a)
+    hot = al.logarithmic_negativity(net, a, b, method="dense", temperature=0.02)
+    cold = al.entropy(net, a, renyi=[0.5], method="dense")
+    assert hot.route == "partial transpose"
+    assert abs(hot.log_negativity - cold.renyi["0.5"]) <= (hot.error_bound
+                                                            + cold.renyi_error_bound["0.5"])
+
+
+def test_thermal_negativity_decreases_and_vanishes():
+    # Heating destroys entanglement: E_N falls with T and is exactly 0 once the state is
+    # separable at high T (common practice, no source).
+    net = al.hypercubic(40, mass=0.3)
+    a, b = al.box(net, 5, origin=10), al.box(net, 5, origin=15)
+    en = [al.logarithmic_negativity(net, a, b, temperature=t).log_negativity
+          for t in (0.0, 0.2, 0.5, 1.0, 5.0)]
+    assert all(x > y for x, y in zip(en[:3], en[1:4]))
+    assert en[0] > 0.1 and en[-1] == 0.0
+
+
+@pytest.mark.parametrize("temperature", [0.1, 0.7])
+def test_thermal_spectral_agrees_with_dense(temperature):
+    net = al.hypercubic((8, 8), mass=0.2)
+    a, b = al.box(net, (2, 3), origin=(2, 2)), al.box(net, (2, 3), origin=(4, 2))
+    ref = al.logarithmic_negativity(net, a, b, method="dense", temperature=temperature)
+    got = al.logarithmic_negativity(net, a, b, method="spectral", temperature=temperature)
+    assert ref.log_negativity > 0.01
+    assert abs(got.log_negativity - ref.log_negativity) <= got.error_bound + ref.error_bound
+    res = al.entropy(net, a, region_b=b, negativity=True, temperature=temperature)
+    assert abs(res.log_negativity - ref.log_negativity) <= res.log_negativity_error_bound \
+        + ref.error_bound

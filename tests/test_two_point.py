@@ -96,3 +96,18 @@ def test_cli_method_two_point(capsys):
     dense = json.loads(capsys.readouterr().out)
     assert code == 0 and two["method"] == "two-point"
     assert abs(two["entropy"] - dense["entropy"]) < 1e-10
+
+
+@pytest.mark.parametrize("temperature", [0.05, 0.4, 3.0])
+def test_equals_symplectic_route_at_temperature(temperature):
+    # Gibbs states: W and iΔ from the thermal X_T, P_T; the same identity as at T = 0
+    # (Sorkin 2012, arXiv:1205.2953, holds for any Gaussian state), |ΔS| < 1e-10.
+    rng = np.random.default_rng(7)
+    net = al.OscillatorNetwork(random_spd(rng, 30, cond=40.0), random_spd(rng, 30, cond=4.0))
+    a = al.from_sites(net, np.sort(rng.choice(30, 11, replace=False)))
+    ref = al.entropy(net, a, method="dense", renyi=[2], temperature=temperature)
+    got = al.entropy(net, a, method="two-point", renyi=[2], temperature=temperature)
+    assert got.temperature == temperature and ref.entropy > 0.1
+    assert abs(got.entropy - ref.entropy) < 1e-10
+    assert abs(got.renyi["2"] - ref.renyi["2"]) < 1e-10
+    assert abs(got.entropy - ref.entropy) <= got.error_bound + ref.error_bound

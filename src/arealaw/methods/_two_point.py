@@ -140,28 +140,30 @@ def _norm(a):
 class TwoPointMethod(Method):
     """Entropy from the region's Wightman function and commutator (``method='two-point'``).
 
-    Correlator blocks come from the cheapest registered backend that serves the network.
+    Correlator blocks come from the cheapest registered backend that serves the network (at
+    ``temperature``: the Gibbs state's X_T, P_T give W and the same iΔ, so nothing else changes).
     """
 
     name = "two-point"
     provides_blocks = True
 
-    def _backend(self, network, n, tol):
+    def _backend(self, network, n, tol, temperature):
         best = None
         for name in backend_names():
-            a = get_backend(name).assess(network, n, tol=tol)
+            a = get_backend(name).assess(network, n, tol=tol, temperature=temperature)
             if a.ok and (best is None or a.seconds < best[1].seconds):
                 best = (get_backend(name), a)
         return best
 
-    def assess(self, network, regions, *, tol):
+    def assess(self, network, regions, *, tol, temperature=0.0):
         if any(r.size == 0 for r in regions):
             return Assessment(False, "a region with infinitely many sites (no site list) is "
                                      "served only by symmetry reductions (method='transverse')")
         n = max(r.size for r in regions)
-        best = self._backend(network, n, tol)
+        best = self._backend(network, n, tol, temperature)
         if best is None:
-            return Assessment(False, "no correlator backend serves this network")
+            return Assessment(False, "no correlator backend serves this network"
+                              + (f" at temperature {temperature:g}" if temperature else ""))
         backend, a = best
         need = max(a.bytes, _two_point_bytes(n))
         if need > 0.8 * available_bytes():
@@ -171,25 +173,25 @@ class TwoPointMethod(Method):
         return Assessment(True, f"W v = λ iΔ v on {2 * n} phase-space variables, blocks from "
                                 f"{backend.name}", need, seconds)
 
-    def spectrum(self, network, region, *, tol):
+    def spectrum(self, network, region, *, tol, temperature=0.0):
         n = region.size
         if n == 0:
             raise UnsupportedMethodError("the two-point route needs a finite region; use "
                                          "method='transverse' for infinite ones")
         require_memory(_two_point_bytes(n), f"the two-point eigenproblem of {n} sites",
                        "use method='auto' (the symplectic route is about 20x cheaper)")
-        best = self._backend(network, n, tol)
+        best = self._backend(network, n, tol, temperature)
         if best is None:
             raise UnsupportedMethodError("no correlator backend serves this network; "
                                          "use method='auto'")
-        b = best[0].blocks(network, region.indices, tol=tol)
+        b = best[0].blocks(network, region.indices, tol=tol, temperature=temperature)
         info = dict(b.info)
         info["blocks_from"] = best[0].name
         return two_point_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error, info=info)
 
-    def blocks(self, network, rows, cols=None, *, tol):
-        best = self._backend(network, np.asarray(rows).size, tol)
+    def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
+        best = self._backend(network, np.asarray(rows).size, tol, temperature)
         if best is None:
             raise UnsupportedMethodError("no correlator backend serves this network; "
                                          "use method='auto'")
-        return best[0].blocks(network, rows, cols, tol=tol)
+        return best[0].blocks(network, rows, cols, tol=tol, temperature=temperature)
