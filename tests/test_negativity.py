@@ -190,3 +190,11 @@ def test_thermal_spectral_agrees_with_dense(temperature):
     res = al.entropy(net, a, region_b=b, negativity=True, temperature=temperature)
     assert abs(res.log_negativity - ref.log_negativity) <= res.log_negativity_error_bound \
         + ref.error_bound
+
+
+def test_large_pair_is_refused_before_allocating():
+    # memory is estimated from the sizes of A and B before any block is formed
+    net = al.hypercubic((400, 400), mass=0.1)
+    a, b = al.box(net, (150, 100), origin=(0, 0)), al.box(net, (150, 100), origin=(200, 0))
+    with pytest.raises(al.InsufficientMemoryError, match="partial transpose of 30000 sites"):
+        al.logarithmic_negativity(net, a, b)

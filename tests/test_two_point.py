@@ -111,3 +111,18 @@ def test_equals_symplectic_route_at_temperature(temperature):
     assert abs(got.entropy - ref.entropy) < 1e-10
     assert abs(got.renyi["2"] - ref.renyi["2"]) < 1e-10
     assert abs(got.entropy - ref.entropy) <= got.error_bound + ref.error_bound
+
+
+def test_large_region_is_refused_with_an_alternative():
+    net = al.hypercubic((300, 300), mass=0.1)
+    big = al.box(net, (150, 150))
+    with pytest.raises(al.UnsupportedMethodError, match="two-point eigenproblem of 22500 sites "
+                                                        "needs .*can"):
+        al.entropy(net, big, method="two-point")
+
+
+def test_cli_infinite_region_is_one_line(capsys):
+    code = main(["entropy", "--shape", "20", "inf", "--boundary", "dirichlet", "periodic",
+                 "--mass", "0.2", "--half-space", "0", "10", "--method", "two-point"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "two-point" in err

@@ -12,7 +12,7 @@ from .spectrum._measures import (entanglement_energies, entropy_error_bound, mut
 from .correlators import check_temperature
 from .spectrum._negativity import (log_negativity, log_negativity_error_bound,
                                    partial_transpose_spectrum)
-from .methods._registry import Method, choose_method, method_names
+from .methods._registry import Method, block_error_form, choose_method, method_names
 from .network._regions import check_network, check_region, union
 
 __all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativity"]
@@ -338,7 +338,7 @@ def _negativity(network, region_a, region_b, method, tol, spec_a=None, temperatu
     rows = np.concatenate([region_a.indices, region_b.indices])
     b = choice.method.blocks(network, rows, tol=tol, temperature=temperature)
     pt = partial_transpose_spectrum(b.x, b.p, np.arange(n) >= region_a.size,
-                                    x_error=b.x_error, p_error=b.p_error)
+                                    **block_error_form(b))
     info = {"negative_modes": int(np.count_nonzero(pt.tau < 0)),
             "min_nu": float(pt.nu.min())}
     return NegativityResult(log_negativity(pt), log_negativity_error_bound(pt),

@@ -113,13 +113,18 @@ def block_spectrum(b, info=None):
     norm bounds (they propagate far more tightly, see :mod:`arealaw.spectrum._bounds`).
     """
     info = b.info if info is None else info
+    return symplectic_spectrum(b.x, b.p, **block_error_form(b), info=info)
+
+
+def block_error_form(b):
+    """The tightest error description :class:`~arealaw.correlators.Blocks` carry, as keywords of
+    :func:`~arealaw.spectrum._bounds.correlator_terms`: dominating blocks, else entry bounds,
+    else spectral norms."""
     if b.x_dominant is not None or b.p_dominant is not None:
-        return symplectic_spectrum(b.x, b.p, x_dominant=b.x_dominant, p_dominant=b.p_dominant,
-                                   info=info)
+        return {"x_dominant": b.x_dominant, "p_dominant": b.p_dominant}
     if "entry_x_error" in b.info and b.x.shape[0] == b.x.shape[1]:
-        return symplectic_spectrum(b.x, b.p, x_entry=b.info["entry_x_error"],
-                                   p_entry=b.info["entry_p_error"], info=info)
-    return symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error, info=info)
+        return {"x_entry": b.info["entry_x_error"], "p_entry": b.info["entry_p_error"]}
+    return {"x_error": b.x_error, "p_error": b.p_error}
 
 
 class Method:

@@ -27,7 +27,8 @@ follows as for the other methods; the sum Σ λ ln|λ| itself is kept in ``info[
 Numerics: K is a 2n × 2n complex Hermitian matrix, solved by a dense Hermitian eigensolver with
 eigenvectors; each computed κ is within its residual ‖K u − κ u‖ (plus a rounding term for forming
 K) of an exact eigenvalue, and the pair (κ₊, κ₋) gives ν = (κ₊ − κ₋)/2.  Correlator errors enter
-t through Weyl's inequality as in :func:`~arealaw.symplectic_spectrum`.  The route costs about 20×
+t per mode as in :func:`~arealaw.symplectic_spectrum` (Weyl, in whichever error form the
+backend gives).  The route costs about 20×
 the symplectic route's dense eigenproblem (complex arithmetic, twice the dimension): it is an
 independent cross-check, and ``method='auto'`` never prefers it to a cheaper exact route.
 """
@@ -38,8 +39,9 @@ import scipy.linalg
 from .._errors import UnsupportedMethodError
 from .._numerics import EPS, available_bytes, format_bytes, require_memory
 from ..correlators import Assessment, backend_names, get_backend
+from ..spectrum._bounds import correlator_terms
 from ..spectrum._symplectic import SymplecticSpectrum
-from ._registry import Method
+from ._registry import Method, block_error_form
 
 __all__ = ["TwoPointMethod", "two_point_spectrum"]
 
@@ -58,7 +60,8 @@ def _two_point_seconds(n):
     return _SECONDS_PER_CUBE * (2.0 * n) ** 3
 
 
-def two_point_spectrum(x, p, c=None, *, x_error=0.0, p_error=0.0, info=None):
+def two_point_spectrum(x, p, c=None, *, x_error=0.0, p_error=0.0, x_dominant=None,
+                       p_dominant=None, x_entry=0.0, p_entry=0.0, info=None):
     """Symplectic spectrum of a region from W v = λ iΔ v (see the module docstring).
 
     Parameters
@@ -67,8 +70,9 @@ def two_point_spectrum(x, p, c=None, *, x_error=0.0, p_error=0.0, info=None):
         X_A and P_A.
     c : ndarray (n, n), optional
         The qp correlator C_A = ⟨{q, p}⟩/2 (default zero, as for H = ½pᵀM⁻¹p + ½qᵀVq).
-    x_error, p_error : float
-        Spectral-norm error bounds of ``x`` and ``p`` (``c`` is taken as exact).
+    x_error, p_error, x_dominant, p_dominant, x_entry, p_entry
+        Errors of ``x`` and ``p`` in the forms of
+        :func:`~arealaw.spectrum._bounds.correlator_terms` (``c`` is taken as exact).
 
     Returns
     -------
@@ -104,11 +108,15 @@ def two_point_spectrum(x, p, c=None, *, x_error=0.0, p_error=0.0, info=None):
     idl = 1j * np.vstack([chol[n:], -chol[:n]])
     k = chol.T @ idl
     k = 0.5 * (k + k.conj().T)
+    # rounding of the product forming K, entry by entry ≤ a few ε·(|L|ᵀ|iΔ L|)_jk
+    abs_l = np.abs(chol)
+    form = 2.0 * np.sqrt(2.0 * n) * EPS * float(np.max(abs_l.T @ np.abs(idl).sum(axis=1)))
+    del abs_l
     kappa, vec = scipy.linalg.eigh(k)
     resid = np.linalg.norm(k @ vec - vec * kappa, axis=0)
     scale = float(np.max(np.abs(kappa)))
     # rounding of σ's Cholesky factor and of the product forming K, relative to ‖K‖ ≤ ‖σ‖
-    delta = resid + 8.0 * np.sqrt(2.0 * n) * EPS * max(scale, _norm(sigma))
+    delta = resid + 8.0 * np.sqrt(2.0 * n) * EPS * max(scale, _norm(sigma)) + form
     # κ ascending: the n smallest are −ν (descending ν), the n largest +ν (ascending ν)
     plus, minus = kappa[n:][::-1], -kappa[:n]
     d_nu = np.maximum(delta[n:][::-1], delta[:n])
@@ -117,8 +125,9 @@ def two_point_spectrum(x, p, c=None, *, x_error=0.0, p_error=0.0, info=None):
     t = lam_plus * np.maximum(-lam_minus, 0.0)
     # |δt| = |δ(ν²)| ≤ (2ν + δν)·δν, and correlator errors through Weyl (as for X_A P_A)
     t_error = (2.0 * nu + d_nu) * d_nu
-    if x_error or p_error:
-        t_error = t_error + (_norm(x) * p_error + _norm(p) * x_error + x_error * p_error)
+    t_error = t_error + correlator_terms(
+        sigma[:n, :n], sigma[n:, n:], x_error, p_error, x_dominant=x_dominant,
+        p_dominant=p_dominant, x_entry=x_entry, p_entry=p_entry).per_mode
     lam = 0.5 + kappa
     nonzero = lam[lam != 0.0]
     s_two_point = float(np.sum(nonzero * np.log(np.abs(nonzero))))
@@ -187,7 +196,7 @@ class TwoPointMethod(Method):
         b = best[0].blocks(network, region.indices, tol=tol, temperature=temperature)
         info = dict(b.info)
         info["blocks_from"] = best[0].name
-        return two_point_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error, info=info)
+        return two_point_spectrum(b.x, b.p, **block_error_form(b), info=info)
 
     def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):
         best = self._backend(network, np.asarray(rows).size, tol, temperature)

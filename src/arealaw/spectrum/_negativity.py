@@ -50,7 +50,8 @@ class PartialTransposeSpectrum:
         return np.sqrt(0.25 + self.tau)
 
 
-def partial_transpose_spectrum(x, p, flip, *, x_error=0.0, p_error=0.0, info=None):
+def partial_transpose_spectrum(x, p, flip, *, x_error=0.0, p_error=0.0, x_dominant=None,
+                               p_dominant=None, x_entry=0.0, p_entry=0.0, info=None):
     """Spectrum of the partial transpose of a Gaussian state with blocks ``x``, ``p``.
 
     Parameters
@@ -61,6 +62,11 @@ def partial_transpose_spectrum(x, p, flip, *, x_error=0.0, p_error=0.0, info=Non
         True for the sites of B (the transposed part: their momenta change sign).
     x_error, p_error : float
         Bounds on the spectral-norm errors of ``x`` and ``p``.
+    x_dominant, p_dominant : ndarray (n, n), optional
+        Loewner-dominating error blocks of ``x`` and ``p`` (untransposed; P's is flipped here).
+    x_entry, p_entry : float
+        Bounds on every entry's error.  The error forms are those of
+        :func:`~arealaw.spectrum._bounds.correlator_terms`.
 
     Returns
     -------
@@ -90,8 +96,12 @@ def partial_transpose_spectrum(x, p, flip, *, x_error=0.0, p_error=0.0, info=Non
     if n == 0:
         raise ValueError("A ∪ B is empty; a partial transpose needs at least one site")
     sign = np.where(flip, -1.0, 1.0)
-    tau, delta = form_eigenvalues(x, p * sign[:, None] * sign[None, :], x_error=x_error,
-                                  p_error=p_error)
+    flip_both = sign[:, None] * sign[None, :]
+    # −H ⪯ δP ⪯ H gives −RHR ⪯ R δP R ⪯ RHR: the dominating block flips with P
+    tau, delta = form_eigenvalues(
+        x, p * flip_both, x_error=x_error, p_error=p_error, x_dominant=x_dominant,
+        p_dominant=None if p_dominant is None else np.asarray(p_dominant) * flip_both,
+        x_entry=x_entry, p_entry=p_entry)
     return PartialTransposeSpectrum(tau=np.asarray(tau), tau_error=np.asarray(delta),
                                     info=dict(info or {}))
 

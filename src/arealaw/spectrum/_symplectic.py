@@ -182,14 +182,16 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, x_dominant=None, p_do
                           nuclear_error=nuclear)
 
 
-def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0):
+def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0, x_dominant=None, p_dominant=None,
+                     x_entry=0.0, p_entry=0.0):
     """Eigenvalues of W − ¼ I, W = Lᵀ P L with X = L Lᵀ, and a bound on each one's error.
 
     The eigenvalues of W are those of X P (ν² for a region's blocks, ν̃² for a partially
-    transposed P).  Each bound is the eigenvalue residual (or a rounding model above
-    ``RESIDUAL_BOUND_LIMIT`` sites) plus the block errors through Weyl's inequality,
-    ‖X‖·δP + ‖P‖·δX + δX·δP, which needs X and P positive definite.  ``x`` and ``p`` are
-    checked square blocks of one shape.
+    transposed P, which need not lie above ¼).  Each bound is the eigenvalue residual (or a
+    rounding model above ``RESIDUAL_BOUND_LIMIT`` sites), the rounding of forming W (as in
+    :func:`symplectic_spectrum`) and the block errors in any of the forms of
+    :func:`~arealaw.spectrum._bounds.correlator_terms` (per mode, Weyl), which needs X and P
+    positive definite.  ``x`` and ``p`` are checked square blocks of one shape.
     """
     n = x.shape[0]
     xs = 0.5 * (x + x.T)
@@ -199,25 +201,26 @@ def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0):
     except np.linalg.LinAlgError:
         raise ValueError("X_A is not positive definite: these blocks are not the correlators of "
                          "a physical Gaussian state (check V and M)") from None
-    # W = Lᵀ P_A L by two triangular products (half the flops of two general ones)
+    # W = Lᵀ P L by two triangular products (half the flops of two general ones)
     w = scipy.linalg.blas.dtrmm(1.0, chol, ps, side=1, lower=1)
     w = scipy.linalg.blas.dtrmm(1.0, chol, w, side=0, lower=1, trans_a=1)
     w = 0.5 * (w + w.T)
     w[np.diag_indices(n)] -= 0.25
+    abs_l = np.abs(chol)
+    form = 2 * np.sqrt(n) * EPS * float(np.max(abs_l.T @ (np.abs(ps) @ abs_l.sum(axis=1))))
+    del abs_l
     if n <= RESIDUAL_BOUND_LIMIT:
         lam, vec = scipy.linalg.eigh(w)
         resid = np.linalg.norm(w @ vec - vec * lam, axis=0)
         wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
-        delta = resid + 4 * np.sqrt(n) * EPS * wnorm
+        delta = resid + 4 * np.sqrt(n) * EPS * wnorm + form
     else:
         lam = scipy.linalg.eigvalsh(w, driver="evd")
         wnorm = max(abs(lam[0]), abs(lam[-1])) + 0.25
-        delta = 8 * np.sqrt(n) * EPS * wnorm * np.ones(n)
-    if x_error or p_error:
-        xn = _psd_norm(xs) if n <= 4000 else np.abs(xs).sum(axis=1).max()
-        pn = _psd_norm(ps) if n <= 4000 else np.abs(ps).sum(axis=1).max()
-        delta = delta + xn * p_error + pn * x_error + x_error * p_error
-    return lam, delta
+        delta = (8 * np.sqrt(n) * EPS * wnorm + form) * np.ones(n)
+    corr = correlator_terms(xs, ps, x_error, p_error, x_dominant=x_dominant,
+                            p_dominant=p_dominant, x_entry=x_entry, p_entry=p_entry)
+    return lam, delta + corr.per_mode
 
 
 def combine_spectra(parts, *, extra_error=0.0, info=None):
