@@ -281,3 +281,46 @@ def test_scenario_sweeps_temperature_and_keeps_ground_state_keys():
     out = compute_case(swept[2])
     ref = al.entropy(net, al.box(net, 4), temperature=0.6)
     assert out["temperature"] == 0.6 and abs(out["entropy"] - ref.entropy) <= ref.error_bound
+
+
+def test_large_regions_at_temperature_are_refused_with_a_memory_estimate():
+    from arealaw.methods._registry import choose_method
+    net = al.hypercubic((100, 100, 100), mass=0.0)
+    reg = al.ball(net, 30, center=(40, 45, 50))            # 113 081 sites, no mirror symmetry
+    assert choose_method(net, [reg], "auto", tol=1e-10).method.name == "spectral"
+    with pytest.raises(UnsupportedMethodError,
+                       match=r"dense eigenproblem of 113081 sites needs .*GiB \(the restricted"):
+        choose_method(net, [reg], "auto", tol=1e-10, temperature=0.1)
+
+
+def test_fft_operators_at_temperature_equal_the_gathered_blocks():
+    from arealaw.correlators import SpectralBackend
+    net = al.hypercubic((12, 10, 9), mass=0.2, boundary=("dirichlet", "periodic", "open"),
+                        inertia=1.7)
+    idx = al.ball(net, 3, center=(4, 4, 4)).indices
+    ops = SpectralBackend(operators="fft").operators(net, idx, tol=1e-12, temperature=0.3)
+    x, p, info = dense_correlators(net, temperature=0.3)
+    v = np.random.default_rng(2).standard_normal((idx.size, 3))
+    ix = np.ix_(idx, idx)
+    vn = np.linalg.norm(v, axis=0)       # ‖(A − B) v‖₂ ≤ ‖A − B‖₂ ‖v‖₂ per column
+    assert np.all(np.linalg.norm(ops.x.matmat(v) - x[ix] @ v, axis=0)
+                  <= (ops.x_error + info["x_error"]) * vn)
+    assert np.all(np.linalg.norm(ops.p.matmat(v) - p[ix] @ v, axis=0)
+                  <= (ops.p_error + info["p_error"]) * vn)
+    exact_trace = float(np.sum(x[ix] * p[ix]) - idx.size / 4)
+    assert abs(ops.trace[0] - exact_trace) <= ops.trace[1] + 1e-9 * abs(exact_trace)
+
+
+def test_negativity_of_a_gibbs_state_uses_the_partial_transpose():
+    # At T > 0 the state of A ∪ Ā is mixed: E_N is not the Rényi-½ entropy of A, and it falls
+    # as the temperature rises (thermal noise washes out entanglement; common practice, no
+    # source).
+    net = al.hypercubic(16, mass=0.3)
+    a, b = al.box(net, 8, origin=0), al.box(net, 8, origin=8)
+    cold = al.entropy(net, a, region_b=b, negativity=True, method="dense")
+    warm = al.entropy(net, a, region_b=b, negativity=True, method="dense", temperature=0.3)
+    assert cold.info["log_negativity_route"].startswith("pure")
+    assert warm.info["log_negativity_route"] == "partial transpose"
+    assert warm.mutual_information > 0 and warm.entropy_ab > 1.0
+    assert 0 <= warm.log_negativity + warm.log_negativity_error_bound
+    assert warm.log_negativity < cold.log_negativity - cold.log_negativity_error_bound
