@@ -15,7 +15,7 @@ mode, and a tail bounded as a whole:
   cost less), so the head
   costs at most min(Σ secants, D·max slope) over its modes.
 * tail: its exact total T* = τ* − Σ_{i≤k} t*_i ≤ τ + e_τ − Σ_{i≤k} w_i t_i + min(Σ_{i≤k} w_i δ_i, D),
-  with τ ± e_τ the exact trace.  Jensen for concave f with f(0) = 0: the exact tail holds at most
+  with τ ± e_τ the exact trace; or (Ky Fan) T* ≤ Σ_{i>k} w_i t_i + D, whichever is smaller.  Jensen for concave f with f(0) = 0: the exact tail holds at most
   m·f(T*/m) (m = Σ_{i>k} w_i); the computed tail holds F_tail ≥ 0, so the tail error is at most
   max(F_tail, m·f(T_u/m)).  No assumption relates the exact tail modes to the computed ones.
 
@@ -201,7 +201,11 @@ def sum_error_bound(t, t_error, weights, *, trace, trace_error, nuclear, f):
     head_d = np.minimum(np.concatenate([zero, np.cumsum(w * d)]), nuclear)
     total_w = float(w.sum())
     count = total_w - np.concatenate([zero, np.cumsum(w)])
-    tail_sum = np.maximum(trace + trace_error - head_t + head_d, 0.0)
+    # two certificates of the exact tail total: the trace, or Ky Fan on the computed tail
+    # (Σ_{i>k} t*_i ≤ Σ_{i>k} t_i + D for the sorted vectors); the smaller one counts
+    by_trace = trace + trace_error - head_t + head_d
+    by_lidskii = float(np.dot(w, t)) - head_t + nuclear
+    tail_sum = np.maximum(np.minimum(by_trace, by_lidskii), 0.0)
     computed_tail = float(np.dot(w, s)) - np.concatenate([zero, np.cumsum(w * s)])
     live = count > 1e-12 * max(total_w, 1.0)
     jensen = np.zeros_like(count)

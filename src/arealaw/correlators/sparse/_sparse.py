@@ -221,17 +221,20 @@ class SparseBackend(CorrelatorBackend):
             core = np.union1d(union, prep["m"][union].indices)
         y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol)
         if prep["diag"]:
-            x, p, x_err, p_err = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
+            x, p, x_err, p_err, hx, hp = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
         else:
-            x, p, x_err, p_err = self._assemble_general(network, prep, union, core, y_cc, y_sig,
-                                                        err, rule)
+            x, p, x_err, p_err, hx, hp = self._assemble_general(network, prep, union, core, y_cc,
+                                                                y_sig, err, rule)
         ri = np.searchsorted(union, rows)
         ci = np.searchsorted(union, cols)
         info = {"engine": engine, "poles": rule.n_nodes, "spectral_interval": (lo, hi),
                 "temperature": temperature,
                 "condition_number": kappa, "quadrature_rel_error": rule.rel_error,
                 "interval_method": prep["interval"]["method"], **diag_info}
-        return Blocks(x[np.ix_(ri, ci)], p[np.ix_(ri, ci)], float(x_err), float(p_err), info)
+        square = np.array_equal(rows, cols)
+        return Blocks(x[np.ix_(ri, ci)], p[np.ix_(ri, ci)], float(x_err), float(p_err), info,
+                      x_dominant=hx[np.ix_(ri, ri)] if square and temperature == 0 else None,
+                      p_dominant=hp[np.ix_(ri, ri)] if square and temperature == 0 else None)
 
     def _choose_engine(self, prep, kappa, n_poles, tol):
         if self.engine != "auto":
@@ -299,11 +302,15 @@ class SparseBackend(CorrelatorBackend):
             info["iterations"] = 0
         y_cc = np.zeros((c, c))
         y_sig = np.zeros((c, c))
+        # Loewner-dominating error blocks of Σ w Y and Σ w σ Y (see below)
+        h_cc = np.zeros((c, c))
+        h_sig = np.zeros((c, c))
         e_cc = e_sig = w_sum = 0.0
         for j, sigma in enumerate(shifts):
             h_jr = a_jr if m_jr is None else a_jr + sigma * m_jr
             s = a_cc + sigma * m_cc
-            s[np.ix_(inner, inner)] -= h_jr @ z[j]
+            corr = h_jr @ z[j]
+            s[np.ix_(inner, inner)] -= corr
             s = 0.5 * (s + s.T)
             try:
                 fac = scipy.linalg.cho_factor(s, lower=True)
@@ -320,16 +327,35 @@ class SparseBackend(CorrelatorBackend):
             res_f = float(np.sqrt(np.sum(resid[j] ** 2)))
             e_z = res_f / lh + 4 * math.sqrt(max(info["iterations"], 1)) * EPS * res_f / lh
             h_norm = _norm2_bound(h_jr)
-            e_s = h_norm * e_z + 8 * c * EPS * (float(np.abs(s).sum(axis=1).max()))
+            # δS = H_JR H_BB^{-1} R: ‖δS‖ ≤ ‖H_BB^{-1/2} H_RJ‖·‖R‖_F/√λ_H, and
+            # ‖H_BB^{-1/2} H_RJ‖² = ‖H_JR H_BB^{-1} H_RJ‖ ≤ ‖computed correction‖ + ‖δS‖
+            # (a √λ_H instead of λ_H: the residual cannot lie along the softest mode twice)
+            a_r = res_f / math.sqrt(lh)
+            c_norm = _norm2_bound(corr) if corr.size else 0.0
+            e_form = a_r * math.sqrt(c_norm + a_r * a_r) + a_r * a_r
+            e_solve = min(h_norm * e_z, e_form)
+            e_round = 8 * math.sqrt(c) * EPS * (float(np.abs(s).sum(axis=1).max()))
+            e_s = e_solve + e_round
             # Crude but always valid: ‖Ỹ − Y‖ ≤ ‖Ỹ‖ + ‖Y‖ (‖Ỹ‖ ≤ its largest absolute row sum).
             e_y = float(np.abs(yj).sum(axis=1).max()) + 1 / lh
             if e_s < 0.5 * lh:
                 e_y = min(e_y, e_s / lh ** 2 / (1 - e_s / lh))
             e_cc += wj * e_y
+            # relative form: ‖δS‖ ≤ η·λ_min(S) with η = e_s/λ_H gives (1 − η)S ⪯ S̃ ⪯ (1 + η)S,
+            # hence −η Ỹ ⪯ Y − Ỹ ⪯ η Ỹ; beyond η = ½ only −Y ⪯ Ỹ − Y ⪯ Ỹ (Y ⪯ I/λ_H)
+            # the solve error lives on the boundary block J only: ‖Y^{1/2} δS Y^{1/2}‖ ≤
+            # ‖δS‖·‖Y_JJ‖ (Y_JJ ⪯ Ỹ_JJ/(1 − η)), far below ‖δS‖/λ_H; rounding of the
+            # factorisation is global: ‖δS‖/λ_H
+            y_jj = _norm2_bound(yj[np.ix_(inner, inner)]) if inner.size else 0.0
+            g = e_solve * y_jj
+            eta = (g / (1 - g) if g < 0.5 else math.inf) + e_round / lh
+            hj = eta * yj if eta < 0.5 else yj + np.eye(c) / lh
+            h_cc += wj * hj
+            h_sig += (wj * sigma) * hj
             y_sig += (wj * sigma) * yj
             e_sig += wj * sigma * e_y
             w_sum += wj
-        err = {"x_cc": e_cc, "sigma": e_sig, "w_sum": w_sum}
+        err = {"x_cc": e_cc, "sigma": e_sig, "w_sum": w_sum, "h_cc": h_cc, "h_sig": h_sig}
         return y_cc, y_sig, err, info
 
     def _block_plan(self, n, n_rhs, nnz):
@@ -380,7 +406,14 @@ class SparseBackend(CorrelatorBackend):
         x_err = (err["x_cc"] + 0.5 * rule.abs_error) / float(d[union].min())
         p_err = (err["sigma"] + 0.5 * rule.x_abs_error
                  + 8 * c * EPS * err["w_sum"]) * float(d[union].max())
-        return x, p, x_err, p_err
+        # Loewner form: solve errors per shift (relative to Ỹ_j), the quadrature's relative
+        # error |r(λ)√λ − 1| ≤ rel (a function of K, so ±rel·X and ±rel·P), and the rounding of
+        # w_sum·I − Σ wσY as a multiple of I (√c model); congruence by D^{∓1/2} keeps the order
+        rel = 1.01 * rule.rel_error
+        hx = err["h_cc"] / sq[:, None] / sq[None, :] + rel * x
+        hp = (err["h_sig"] + 8 * math.sqrt(c) * EPS * err["w_sum"] * np.eye(c)) \
+            * sq[:, None] * sq[None, :] + rel * p
+        return x, p, x_err, p_err, hx, hp
 
     def _assemble_general(self, network, prep, union, core, y_cc, y_sig, err, rule):
         # P = ½ M^{1/2} K^{1/2} M^{1/2} ≈ ½ Σ w_j (M − σ_j M (V + σ_j M)^{-1} M).
@@ -394,7 +427,11 @@ class SparseBackend(CorrelatorBackend):
         x_err = err["x_cc"] + 0.5 * rule.abs_error / prep["m_lo"]
         p_err = (m_norm ** 2 * err["sigma"] + 0.5 * rule.x_abs_error * prep["m_hi"]
                  + 8 * core.size * EPS * err["w_sum"] * max(1.0, m_norm ** 2))
-        return x, p, x_err, p_err
+        rel = 1.01 * rule.rel_error
+        hx = err["h_cc"][np.ix_(ui, ui)] + rel * x
+        hp = m_uc @ err["h_sig"] @ m_uc.T + rel * p + (
+            8 * math.sqrt(core.size) * EPS * err["w_sum"] * max(1.0, m_norm ** 2)) * np.eye(ui.size)
+        return x, p, x_err, p_err, hx, hp
 
 
 def _matsubara_poles_estimate(network, temperature):
