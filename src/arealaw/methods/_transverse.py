@@ -264,6 +264,7 @@ class TransverseMethod(Method):
             raise ValueError("a massless lattice with periodic/open normal axes has a zero mode "
                              "at k = 0; give a mass or a Dirichlet normal axis")
         levels, nodes = 8, 6
+        converged = True
         prev = _zone_parts(lat, axes, start, stop, levels, nodes, temperature)
         s_prev = _entropy_of(prev)
         while True:
@@ -273,6 +274,13 @@ class TransverseMethod(Method):
             err = abs(s - s_prev)
             if err <= max(tol, self.rtol * abs(s)):
                 break
+            if levels >= self.max_levels and err <= 1e-3 * abs(s):
+                # Slow only at the k → 0 panel (a log singularity when μ → 0): each refinement
+                # shrinks that panel 16×, so the error left is far below the last change;
+                # report the value with 4× that change as its quadrature bound.
+                converged = False
+                err = 4 * err
+                break
             if levels >= self.max_levels:
                 raise ConvergenceError(
                     f"the Brillouin-zone integral did not converge: change {err:.3g} between "
@@ -280,4 +288,5 @@ class TransverseMethod(Method):
             prev, s_prev = parts, s
         return combine_spectra(parts, extra_error=err, info={
             "per_area": True, "axes": list(axes), "quadrature_nodes_per_axis": (levels + 1) * nodes,
-            "distinct_chains": len(parts), "quadrature_change": err})
+            "distinct_chains": len(parts), "quadrature_change": err,
+            "quadrature_converged": converged})

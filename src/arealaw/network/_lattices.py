@@ -209,15 +209,23 @@ def _site_values(value, shape, n_sites, name, *, allow_zero):
 
 
 def _check_zero_mode(masses, boundaries, shape):
+    """Refuse exactly the massless lattices whose ⟨qq⟩ diverges.
+
+    ⟨qq⟩ = Σ_(finite-axis modes) ∫ d^{d∞}k/(2π)^{d∞} 1/(2ω(k)).  Without mass and Dirichlet
+    walls every finite periodic or open axis has a zero mode, so the term with all finite-axis
+    momenta zero is ∫ d^{d∞}k/|k| near k = 0, finite iff d∞ ≥ 2 (d∞ infinite axes); all other
+    terms have a gap.  Finite axes beside two or more infinite ones are therefore fine.
+    """
     if np.any(np.asarray(masses) > 0) or "dirichlet" in boundaries:
         return
     n_inf = sum(math.isinf(n) for n in shape)
-    if n_inf == len(shape) and n_inf >= 3:
-        return  # the massless infinite 3-D lattice has finite correlators
+    if n_inf >= 2:
+        return
     kinds = "/".join(sorted({b for b in boundaries}))
     raise ValueError(
-        f"a massless lattice with {kinds} boundaries has a zero mode and no normalisable ground "
-        "state (divergent <q q>); give a mass > 0, use Dirichlet walls, or an infinite 3-D lattice"
+        f"a massless lattice with {kinds} boundaries and {n_inf} infinite axes has a zero mode "
+        "and no normalisable ground state (divergent <q q>); give a mass > 0, use Dirichlet "
+        "walls, or at least two infinite axes"
     )
 
 

@@ -11,8 +11,9 @@ mode, and a tail bounded as a whole:
 * head: |t*_i − t_i| ≤ δ_i (Weyl, per mode) and Σ_i w_i|t*_i − t_i| ≤ D (Lidskii: the sorted
   eigenvalue changes are majorised by the singular values of the perturbation, so their total is
   at most its nuclear norm).  For concave increasing f the cost of a downward change Δ ≤ δ is at
-  most Δ·(f(t) − f(t − δ'))/δ' with δ' = min(δ, t) (secants steepen to the left; upward changes
-  cost less), so the head
+  most Δ·(f(t) − f(t − δ'))/δ' with δ' = min(δ, t) (secants steepen to the left), which also
+  bounds f'(t) and so every upward change per unit (unbounded only at t = 0); each mode costs at
+  most max(f(t) − f(t − δ'), f(t + δ) − f(t)), so the head
   costs at most min(Σ secants, D·max slope) over its modes.
 * tail: its exact total T* = τ* − Σ_{i≤k} t*_i ≤ τ + e_τ − Σ_{i≤k} w_i t_i + min(Σ_{i≤k} w_i δ_i, D),
   with τ ± e_τ the exact trace; or (Ky Fan) T* ≤ Σ_{i>k} w_i t_i + D, whichever is smaller.  Jensen for concave f with f(0) = 0: the exact tail holds at most
@@ -188,15 +189,21 @@ def sum_error_bound(t, t_error, weights, *, trace, trace_error, nuclear, f):
     w = np.asarray(weights, dtype=float)
     s = f(t)
     s_lo = f(np.maximum(t - d, 0.0))
-    secant = w * (s - s_lo)
-    # a downward change stops at t = 0: the secant runs over min(δ, t)
+    down = np.maximum(s - s_lo, 0.0)      # f is increasing: a negative rise is rounding
+    up = np.maximum(f(t + d) - s, 0.0)
+    secant = w * np.maximum(down, up)
+    # a downward change stops at t = 0: its secant runs over min(δ, t) and bounds f'(t), hence
+    # every upward change per unit too; at t = 0 the upward slope is unbounded
     reach = np.minimum(d, t)
     with np.errstate(divide="ignore", invalid="ignore"):
-        slope = np.where(reach > 0, (s - s_lo) / np.where(reach > 0, reach, 1.0), 0.0)
+        slope = np.where(reach > 0, down / np.where(reach > 0, reach, 1.0),
+                         np.where(d > 0, np.inf, 0.0))
     zero = np.zeros(1)
     head_secants = np.concatenate([zero, np.cumsum(secant)])
     head_slope = np.concatenate([zero, np.maximum.accumulate(slope)]) if t.size else zero
-    head = np.minimum(head_secants, nuclear * head_slope)
+    with np.errstate(invalid="ignore"):
+        head = np.where(np.isinf(head_slope), head_secants,
+                        np.minimum(head_secants, nuclear * head_slope))
     head_t = np.concatenate([zero, np.cumsum(w * t)])
     head_d = np.minimum(np.concatenate([zero, np.cumsum(w * d)]), nuclear)
     total_w = float(w.sum())
@@ -205,10 +212,13 @@ def sum_error_bound(t, t_error, weights, *, trace, trace_error, nuclear, f):
     # (Σ_{i>k} t*_i ≤ Σ_{i>k} t_i + D for the sorted vectors); the smaller one counts
     by_trace = trace + trace_error - head_t + head_d
     by_lidskii = float(np.dot(w, t)) - head_t + nuclear
-    tail_sum = np.maximum(np.minimum(by_trace, by_lidskii), 0.0)
+    # a trace certificate at or below zero can only come from its rounding model failing at the
+    # ε level (the exact total is ≥ 0): then only Ky Fan counts
+    tail_sum = np.maximum(np.where(by_trace > 0, np.minimum(by_trace, by_lidskii), by_lidskii),
+                          0.0)
     computed_tail = float(np.dot(w, s)) - np.concatenate([zero, np.cumsum(w * s)])
     live = count > 1e-12 * max(total_w, 1.0)
     jensen = np.zeros_like(count)
     jensen[live] = count[live] * f(tail_sum[live] / count[live])
     tail = np.where(live, np.maximum(jensen, np.maximum(computed_tail, 0.0)), 0.0)
-    return float(np.min(head + tail))
+    return max(float(np.min(head + tail)), 0.0)

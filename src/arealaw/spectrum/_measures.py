@@ -52,15 +52,17 @@ def mode_entropy(t, order=1.0):
     t = np.maximum(np.asarray(t, dtype=float), 0.0)
     a = np.sqrt(0.25 + t) + 0.5
     eps = t / a
+    # a = 1 + ε exactly: ln a = log1p(ε) keeps full relative accuracy for tiny t
+    log_a = np.log1p(eps)
     if math.isinf(n):
-        return np.log(a)
+        return log_a
     if n == 1.0:
         with np.errstate(divide="ignore", invalid="ignore"):
             eln = np.where(eps > 0, eps * np.log(np.where(eps > 0, eps, 1.0)), 0.0)
-        return a * np.log(a) - eln
+        return a * log_a - eln
     with np.errstate(divide="ignore"):
         r = np.where(eps > 0, (eps / a) ** n, 0.0)
-    return (n * np.log(a) + np.log1p(-r)) / (n - 1.0)
+    return (n * log_a + np.log1p(-r)) / (n - 1.0)
 
 
 def _weighted(spec, values):

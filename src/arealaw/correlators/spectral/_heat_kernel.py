@@ -239,11 +239,45 @@ class KernelTables:
                     f"estimates differ by {diff_x:.3g} (X) and {diff_p:.3g} (P), target {tol:g}")
         self.vm = tx        # V^{-1/2} on the argument grid
         self.vp = tp        # V^{1/2}
-        self.err_x = diff_x + h * trimmed[0] + self.rounding
-        self.err_p = diff_p + h * trimmed[1] + self.rounding_p
+        tail_x, tail_p = self._range_tails()
+        self.err_x = diff_x + h * trimmed[0] + self.rounding + tail_x
+        self.err_p = diff_p + h * trimmed[1] + self.rounding_p + tail_p
         self.info = {"quadrature_nodes": int(nodes), "quadrature_step": h,
                      "quadrature_levels": levels, "quadrature_diff_x": diff_x,
                      "quadrature_diff_p": diff_p, "table_shape": list(plan.table_shape)}
+
+    def _range_tails(self):
+        """Analytic bounds of the s-integrals beyond the quadrature range [s_min, s_max].
+
+        Near 0 every kernel is at most 1: ∫_0^{s_min} s^{-1/2} ds/√π = 2√(s_min/π) (and P's
+        integrand adds at most p_scale).  Beyond s_max the integrand f(s) = s^{-1/2} e^{-sm²}
+        Π_a g_a(s)/√π has every factor non-increasing, and each infinite axis's e^{-x}I_0(x)
+        decays at least like x^{-1/2} (√x e^{-x} I_0(x) increases to 1/√(2π)), so
+        f(s) ≤ f(s_max)·(s/s_max)^{-a} with a = ½ + (infinite axes)/2, and f(s) ≤
+        f(s_max)·e^{-r(s − s_max)} with r = m² + Σ λ_min of Dirichlet axes: the tail is at most
+        f(s_max)·min(s_max/(a − 1), 1/r) (finite: massless lattices need two infinite axes or a
+        wall).  P's integrand has an extra factor decaying like 1/s (a + 1).  Both are
+        astronomically small at s_max = e^{π/2·sinh 6}; they are reported, not assumed.
+        """
+        s_min = math.exp(-0.5 * math.pi * math.sinh(_T_MAX))
+        s_max = 1.0 / s_min
+        head = 2 * math.sqrt(s_min / math.pi)
+        s_arr = np.array([s_max])
+        g = math.exp(-s_max * self.m2) / math.sqrt(math.pi * s_max) if self.m2 * s_max < 700 \
+            else 0.0
+        q = self.m2 * g
+        for ax in self.axes:
+            gb = float(ax.bound(s_arr)[0])
+            q = q * gb + g * float(ax.qbound(s_arr)[0])
+            g *= gb
+        n_inf = sum(ax.boundary == "infinite" for ax in self.axes)
+        rate = self.m2 + sum(ax.lambda_min for ax in self.axes)
+        a = 0.5 + 0.5 * n_inf
+        span = min(s_max / (a - 1) if a > 1 else math.inf, 1 / rate if rate > 0 else math.inf)
+        span_p = min(s_max / a, 1 / rate if rate > 0 else math.inf)
+        if not math.isfinite(span):
+            return math.inf, math.inf
+        return 1.01 * g * span + head, 1.01 * q * span_p + head * self.p_scale
 
     def entry_errors(self, n_terms, fx, fp):
         """Bounds on one entry of X = fx·Σ±g and P = fp·Σ±g summed from ``n_terms`` table values."""
