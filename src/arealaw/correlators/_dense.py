@@ -102,7 +102,7 @@ def dense_correlators(network, *, temperature=0.0):
     beta = None
     # A posteriori backward error: the computed pairs are exact for some K + E with
     # ‖E‖ ≤ β (residual norm, plus the loss of orthogonality and the rounding of the
-    # products above, modelled as √N·ε relative to ‖K‖).  Then −β ⪯ E ⪯ β and, K ± β
+    # products above and of the residual itself, modelled as √N·ε relative to ‖K‖).  Then −β ⪯ E ⪯ β and, K ± β
     # commuting with K and t^{∓1/2} being operator monotone, X̂ − X is dominated in Loewner
     # order by H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√λ − √(λ−β)) Uᵀ,
     # the wider side of each mode's interval since √ is concave):
@@ -113,7 +113,8 @@ def dense_correlators(network, *, temperature=0.0):
                            float(np.abs(res).sum(axis=1).max())))
     del res
     orth = float(np.abs(np.einsum("ij,ij->j", u, u) - 1).max())
-    beta = r_norm + scale * (orth + math.sqrt(n) * EPS) + m_beta
+    # the computed residual carries its own rounding (2√N·ε·‖K‖) besides the products' (√N·ε)
+    beta = r_norm + scale * (orth + 3 * math.sqrt(n) * EPS) + m_beta
     if beta < lam[0] / 2:
         # At T > 0, f(t) = coth(√t/2T)/√t = 2T Σ_n 1/(t + (2πnT)²) is operator monotone
         # decreasing and g(t) = √t coth(√t/2T) = 2T Σ_n t/(t + (2πnT)²) increasing (Matsubara

@@ -17,6 +17,7 @@ from ..network._regions import cut_couplings
 from ..spectrum._restricted import restricted_spectrum
 from ..spectrum._symplectic import symplectic_spectrum
 from ..correlators import Assessment, get_backend
+from ..correlators._base import as_array
 
 __all__ = ["BlockMethod", "Choice", "Method", "choose_method", "dense_spectrum_seconds",
            "method_names", "register_method"]
@@ -102,8 +103,21 @@ def restricted_block_spectrum(backend, network, rows, tol):
     ops = backend.operators(network, rows, tol=tol)
     # entropy() has one accuracy knob: the correlator target ``tol`` doubles as the entropy
     # accuracy asked of the Lanczos tail (the block errors enter the bound separately)
+    # FFT box operators come with a gathered trace that already holds the entry errors
+    norm_errors = ops.info.get("operator_rounding") if ops.trace is not None else None
+    xa, pa = as_array(ops.x), as_array(ops.p)
+    if (norm_errors is None and ops.trace is not None and xa is not None and pa is not None
+            and "entry_x_error" in ops.info):
+        # dense blocks with entry bounds: the trace moves by at most e_x·Σ|P| + e_p·Σ|X| + …
+        ex, ep = ops.info["entry_x_error"], ops.info["entry_p_error"]
+        n = float(xa.shape[0])
+        t, e = ops.trace
+        ops.trace = (t, e + ex * float(np.abs(pa).sum()) + ep * float(np.abs(xa).sum())
+                     + n * n * ex * ep)
+        norm_errors = (0.0, 0.0)
     return restricted_spectrum(ops.x, ops.p, entropy_tol=tol, x_error=ops.x_error,
-                               p_error=ops.p_error, trace=ops.trace, info=ops.info)
+                               p_error=ops.p_error, trace=ops.trace, info=ops.info,
+                               trace_norm_errors=norm_errors)
 
 
 def block_spectrum(b, info=None):

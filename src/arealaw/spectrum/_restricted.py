@@ -156,7 +156,7 @@ def _band_ritz(diag_blocks, sub_blocks, b):
 
 def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None, trace=None,
                         x_error=0.0, p_error=0.0, block_size=None, maxiter=None, seed=0,
-                        info=None):
+                        info=None, trace_norm_errors=None):
     """Symplectic modes of a region with t = ν² − ¼ above a threshold, from X_A, P_A as operators.
 
     Parameters
@@ -177,6 +177,9 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     trace : (float, float), optional
         (tr(X_A P_A) − n/4, bound on its error) if the caller knows it cheaply; otherwise it is
         formed by :func:`operator_trace`.
+    trace_norm_errors : (float, float), optional
+        When the given ``trace`` already bounds the effect of the blocks' entry errors: the
+        spectral-norm errors (rx, rp) of the operators beyond those entries (FFT rounding).
     x_error, p_error : float
         Spectral-norm error bounds of the blocks (as in :func:`~arealaw.symplectic_spectrum`).
     block_size : int, optional
@@ -244,7 +247,14 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     block_err = xn * p_error + pn * x_error + x_error * p_error
     # the exact modes' total differs from the blocks' by at most δX·tr P + δP·tr X + n·δX·δP
     # (P, X ⪰ 0): far below n·(per-mode block error) when ‖X_A‖ ≫ tr X_A / n (massless)
-    if xa is not None and pa is not None:
+    if trace_norm_errors is not None:
+        # the given trace already holds the entry errors of the blocks; only the operators'
+        # own errors (spectral norms rx, rp, e.g. FFT rounding) remain, n modes at most each
+        rx, rp = trace_norm_errors
+        xn = xn or _norm_bound(x_op, xa, n, rng)
+        pn = pn or _norm_bound(p_op, pa, n, rng)
+        trace_err = trace_err + n * (xn * rp + pn * rx + rx * rp)
+    elif xa is not None and pa is not None:
         trace_err = trace_err + min(n * block_err, x_error * float(np.trace(pa))
                                     + p_error * float(np.trace(xa)) + n * x_error * p_error)
     else:

@@ -187,4 +187,5 @@ def box_operators(network, rows, *, tol, temperature=0.0):
                 box=[int(w) for w in plan.width], fft_grid=list(plan.grid),
                 entry_x_error=entry_x, entry_p_error=entry_p, temperature=float(temperature))
     # ‖E‖₂ ≤ n · max |E_ij| for the tables, plus the FFT rounding of each product
+    info = dict(info, operator_rounding=(x.rounding, p.rounding))
     return RegionOperators(x, p, n * entry_x + x.rounding, n * entry_p + p.rounding, info)
