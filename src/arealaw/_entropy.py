@@ -12,7 +12,8 @@ from .spectrum._measures import (entanglement_energies, entropy_error_bound, mut
 from .correlators import check_temperature
 from .spectrum._negativity import (log_negativity, log_negativity_error_bound,
                                    partial_transpose_spectrum)
-from .methods._registry import Method, block_error_form, choose_method, method_names
+from ._errors import ConvergenceError, UnsupportedMethodError
+from .methods._registry import Choice, Method, block_error_form, choose_method, method_names
 from .network._regions import check_network, check_region, union
 
 __all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativity"]
@@ -212,8 +213,7 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         if not pure:
             regions += [region_b, union(network, region, region_b)]
     choice = choose_method(network, regions, method, tol=tol, temperature=temperature)
-    spectra = [choice.method.spectrum(network, r, tol=tol, temperature=temperature)
-               for r in regions]
+    choice, spectra = _spectra_with_fallback(choice, network, regions, tol, temperature)
     s, err, ren, ren_err = _measures(spectra[0], orders)
     res = EntropyResult(
         entropy=s, error_bound=err, renyi=ren, renyi_error_bound=ren_err,
@@ -257,6 +257,38 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         res.info["log_negativity_method"] = neg.method
     res.seconds = time.perf_counter() - t0
     return res
+
+
+#: Failures of a method on the numerics of one case (not bad input, which is refused before a
+#: method is chosen): with method='auto' the next method that assessed ok is tried.
+_NUMERICAL_FAILURES = (ValueError, ConvergenceError, np.linalg.LinAlgError, FloatingPointError)
+
+
+def _spectra_with_fallback(choice, network, regions, tol, temperature):
+    """Spectra of ``regions`` by the chosen method; under 'auto', by the next one that can
+    serve when it fails on numerics (e.g. a near-zero mode that defeats a Cholesky factor while
+    the exact spectral sums are fine), saying so in the reason."""
+    tried = []
+    candidates = [(choice.method, None)] + list(getattr(choice, "alternatives", []))
+    auto = choice.reason.startswith("auto")
+    for method, assessment in candidates:
+        try:
+            spectra = [method.spectrum(network, r, tol=tol, temperature=temperature)
+                       for r in regions]
+        except _NUMERICAL_FAILURES as exc:
+            if not auto or isinstance(exc, UnsupportedMethodError):
+                raise
+            tried.append((method.name, str(exc).split("; ")[0] if str(exc) else
+                          type(exc).__name__))
+            continue
+        if tried:
+            why = "; ".join(f"{name} failed ({msg})" for name, msg in tried)
+            choice = Choice(method, f"auto: {why}; fell back to {method.name}: "
+                                    f"{assessment.reason}")
+        return choice, spectra
+    name, msg = tried[0]
+    raise ValueError(f"every method that could serve this case failed: {name}: {msg}"
+                     + "".join(f"; {n}: {m}" for n, m in tried[1:]))
 
 
 def _info(spec):

@@ -10,6 +10,7 @@ The sector bases are orthonormal ±1/√|orbit| vectors, so block errors carry o
 import numpy as np
 import scipy.sparse as sp
 
+from .._numerics import fits_in_memory
 from ._registry import BlockMethod, dense_spectrum_seconds
 from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
 from ..correlators import Assessment
@@ -124,6 +125,11 @@ class ReflectionBlockMethod(BlockMethod):
 
     def assess(self, network, regions, *, tol, temperature=0.0):
         """As :class:`BlockMethod`, but regions that split into sectors cost their sectors."""
+        n_max = max((r.size for r in regions), default=0)
+        k_max = 2 ** (network.ndim or 1)
+        if not fits_in_memory(2 * 8.0 * n_max * n_max / k_max):
+            # even the most symmetric split would not fit: do not spend O(n) finding mirrors
+            return super().assess(network, regions, tol=tol, temperature=temperature)
         groups = [None if r.size < MIN_SECTOR_REGION else _group(network, r.indices)
                   for r in regions]
         if not regions or any(g is None or g.size < 2 for g in groups):

@@ -10,9 +10,10 @@ for an :class:`~arealaw.correlators.Assessment` and takes the cheapest that can 
 import numpy as np
 
 from .._arguments import unknown_name
-from .._errors import UnsupportedMethodError
 from .._costs import cost
-from .._numerics import fits_in_memory, format_bytes, require_memory
+from .._errors import InsufficientMemoryError, UnsupportedMethodError
+from .._numerics import (MEMORY_FRACTION, available_bytes, fits_in_memory, format_bytes,
+                         require_memory)
 from ..network._regions import cut_couplings
 from ..spectrum._restricted import restricted_spectrum
 from ..spectrum._symplectic import symplectic_spectrum
@@ -247,6 +248,8 @@ class Choice:
     def __init__(self, method, reason):
         self.method = method
         self.reason = reason
+        #: Other methods that can serve, cheapest first: (method, assessment) pairs.
+        self.alternatives = []
 
     def __repr__(self):
         return f"Choice({self.method.name!r}, {self.reason!r})"
@@ -271,32 +274,56 @@ def choose_method(network, regions, method="auto", *, tol, blocks=False, tempera
             hint = f"; method={alt[0].name!r} can" if alt else ""
             raise UnsupportedMethodError(f"method {m.name!r} gives no correlator blocks, which "
                                          f"the logarithmic negativity needs{hint}")
-        a = m.assess(network, regions, tol=tol, temperature=temperature)
+        a = _assess(m, network, regions, tol, temperature)
         if not a.ok:
             alt = _best(network, regions, tol, blocks=blocks, temperature=temperature)
             hint = f"; method={alt[0].name!r} can ({alt[1].reason})" if alt else ""
             raise UnsupportedMethodError(f"method {m.name!r} cannot serve this case: "
                                          f"{a.reason}{hint}")
         return Choice(m, f"requested: {a.reason}")
-    best = _best(network, regions, tol, blocks=blocks, temperature=temperature)
+    assessed = _assessments(network, regions, tol, blocks, temperature)
+    best = _pick(assessed)
     if best is None:
-        reasons = "; ".join(f"{name}: "
-                            f"{m.assess(network, regions, tol=tol, temperature=temperature).reason}"
-                            for name, m in sorted(_METHODS.items())
-                            if m.provides_blocks or not blocks)
+        too_big = [(a.bytes, m.name) for m, a in assessed if a.reason.endswith(_TOO_BIG)]
+        if too_big:
+            need, name = min(too_big)
+            raise InsufficientMemoryError(
+                f"no method fits in memory: the smallest estimate ({name}) needs about "
+                f"{format_bytes(need)} but only {format_bytes(MEMORY_FRACTION * available_bytes())}"
+                " is available; use a smaller region (or a machine with more memory)")
+        reasons = "; ".join(f"{m.name}: {a.reason}" for m, a in sorted(assessed,
+                                                                        key=lambda t: t[0].name))
         raise UnsupportedMethodError(f"no method can serve this case ({reasons})")
     m, a, note = best
-    return Choice(m, f"auto: {a.reason} (estimated {a.seconds:.2g} s{note})")
+    choice = Choice(m, f"auto: {a.reason} (estimated {a.seconds:.2g} s{note})")
+    choice.alternatives = [(mm, aa) for mm, aa in sorted(assessed, key=lambda t: t[1].seconds)
+                           if aa.ok and mm is not m]
+    return choice
 
 
-def _best(network, regions, tol, blocks=False, temperature=0.0):
+_TOO_BIG = "more than the memory available"
+
+
+def _assess(m, network, regions, tol, temperature):
+    """A method's assessment; one whose memory estimate does not fit is not ok (refused here,
+    before anything is allocated, rather than by a MemoryError later)."""
+    a = m.assess(network, regions, tol=tol, temperature=temperature)
+    if a.ok and a.bytes and not fits_in_memory(a.bytes):
+        return Assessment(False, f"{a.reason}: needs about {format_bytes(a.bytes)}, {_TOO_BIG}",
+                          a.bytes, a.seconds)
+    return a
+
+
+def _assessments(network, regions, tol, blocks=False, temperature=0.0):
+    return [(m, _assess(m, network, regions, tol, temperature)) for m in _METHODS.values()
+            if m.provides_blocks or not blocks]
+
+
+def _pick(assessed):
     """(method, assessment, note): the cheapest exact method unless an approximate one is
     estimated APPROXIMATE_ADVANTAGE times cheaper; None if no method can serve."""
     scored = {True: [], False: []}
-    for order, m in enumerate(_METHODS.values()):
-        if blocks and not m.provides_blocks:
-            continue
-        a = m.assess(network, regions, tol=tol, temperature=temperature)
+    for order, (m, a) in enumerate(assessed):
         if a.ok:
             scored[bool(m.exact)].append((a.seconds, order, m, a))
     best = {k: min(v, key=lambda s: (s[0], s[1])) if v else None for k, v in scored.items()}
@@ -308,3 +335,7 @@ def _best(network, regions, tol, blocks=False, temperature=0.0):
     note = (f"; exact, preferred to {approx[2].name!r} at {approx[0]:.2g} s"
             if approx is not None and approx[0] < exact[0] else "")
     return exact[2], exact[3], note
+
+
+def _best(network, regions, tol, blocks=False, temperature=0.0):
+    return _pick(_assessments(network, regions, tol, blocks, temperature))

@@ -93,7 +93,7 @@ def _require_build_memory(count, d, what):
                    "choose a smaller region (no method can hold this many sites anyway)")
 
 
-def _make(network, indices, description, geometry=(), *, allow_empty=False):
+def _make(network, indices, description, geometry=(), *, allow_empty=False, presorted=False):
     idx = np.asarray(indices)
     if idx.dtype == object or not (np.issubdtype(idx.dtype, np.number) or idx.size == 0):
         raise ValueError(f"site indices must be integers, got {idx.dtype} values")
@@ -114,6 +114,8 @@ def _make(network, indices, description, geometry=(), *, allow_empty=False):
     if bad.size:
         raise ValueError(f"site index {int(bad[0])} is out of range for a network of "
                          f"{limit} sites (valid: 0..{limit - 1})")
+    if presorted:  # built in C order from ranges: sorted and unique already (no O(n log n))
+        return Region(idx, description, geometry, _network_key(network))
     uniq = np.unique(idx)
     if uniq.size != idx.size:
         vals, counts = np.unique(idx, return_counts=True)
@@ -174,7 +176,8 @@ def box(network, size, origin=None):
         desc = ("box " + "x".join(map(str, size)) + " centred ("
                 + ",".join(str(o) if _finite_extent(network, a) is not None else "any"
                            for a, o in enumerate(origin)) + ")")
-    return _make(network, idx, desc, ("box", tuple(size.tolist()), tuple(origin.tolist())))
+    return _make(network, idx, desc, ("box", tuple(size.tolist()), tuple(origin.tolist())),
+                 presorted=True)
 
 
 def ball(network, radius, center=None):
@@ -245,7 +248,7 @@ def slab(network, axis, start, stop):
     grids = np.meshgrid(*sub, indexing="ij")
     idx = np.ravel_multi_index([g.ravel() for g in grids], shape)
     return _make(network, idx, f"slab {start} <= x{axis} < {stop}",
-                 ("slab", axis, int(start), int(stop)))
+                 ("slab", axis, int(start), int(stop)), presorted=True)
 
 
 def _infinitely_many(network, axis, *, normal_counts):
