@@ -270,7 +270,10 @@ def _spectra_with_fallback(choice, network, regions, tol, temperature):
     the exact spectral sums are fine), saying so in the reason."""
     tried = []
     candidates = [(choice.method, None)] + list(getattr(choice, "alternatives", []))
-    auto = choice.reason.startswith("auto")
+    # Only lattices: they are positive definite by construction (zero modes are refused when
+    # built), so a method failing on one failed on numerics; a user's matrix that a method
+    # finds indefinite is bad input, and other methods would only say so again, slower.
+    auto = choice.reason.startswith("auto") and network.lattice is not None
     for method, assessment in candidates:
         try:
             spectra = [method.spectrum(network, r, tol=tol, temperature=temperature)

@@ -728,7 +728,8 @@ def _network_checked(spec, entries, cache, w, header, nth, lat_header):
 def _region_spec(spec, network, w, header, nth, key=None):
     spec = dict(spec)
     if isinstance(spec.get("box"), (int, float)) and not isinstance(spec.get("box"), bool):
-        spec["box"] = [int(spec["box"])] * network.ndim
+        size = spec["box"]  # a fraction is refused by box(), not truncated here
+        spec["box"] = [int(size) if float(size).is_integer() else size] * network.ndim
     kinds = [k for k in SCENARIO_REGION_KEYS if k in spec]
     if len(kinds) != 1:
         raise w.error(f"{'region ' + key if key else header} needs exactly one region kind; "
