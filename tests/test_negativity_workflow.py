@@ -103,3 +103,16 @@ def test_overlapping_pair_is_refused(tmp_path, capsys):
     err = capsys.readouterr().err
     assert code == 2 and len(err.strip().splitlines()) == 1
     assert "share 2 sites; the logarithmic negativity needs disjoint regions" in err
+
+
+def test_thermal_family_against_the_rest():
+    # at T > 0 the state is mixed: E_N of A against the rest comes from the partial transpose
+    # and falls below its ground-state value S_1/2(A) (common practice, no source)
+    from arealaw.workflow._sweep import compute_case
+    sc = parse_scenario('[numerics]\nmethod = "dense"\nrenyi = [0.5]\nnegativity = true\n'
+                        '[lattices.c]\nshape = [24]\nmass = 0.2\n[[family]]\nbox = [6]\n'
+                        'origin = [9]\ntemperature = {values = [0.0, 0.4]}\n')
+    cold, hot = (compute_case(c) for c in sc.cases)
+    assert hot["temperature"] == 0.4 and hot["info"]["log_negativity_route"] == "partial transpose"
+    assert cold["info"]["log_negativity_route"].startswith("pure state")
+    assert 0 < hot["log_negativity"] < cold["log_negativity"] - 0.05
