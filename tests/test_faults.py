@@ -5,6 +5,7 @@ import signal
 import sqlite3
 import subprocess
 import sys
+import threading
 import time
 
 import pytest
@@ -167,3 +168,31 @@ def test_ctrl_c_says_how_to_resume(tmp_path):
     assert proc.returncode == 130
     assert "rerun the same command to resume" in err and "Traceback" not in err
     assert 1 <= _stored(store) < total
+
+
+def test_dask_dead_worker_cases_are_resubmitted(tmp_path):
+    # the scheduler resubmits a dead worker's case elsewhere; the sweep finishes every case
+    distributed = pytest.importorskip("distributed")
+    from arealaw.workflow._scenario import parse_scenario
+    from arealaw.workflow._store import ResultStore
+    from arealaw.workflow._sweep import run_cases
+    sc = parse_scenario("""
+[numerics]
+method = "dense"
+[lattices.square]
+shape = [30, 30]
+mass = {from = 0.1, to = 1.2, step = 0.1}
+[[family]]
+box = [8, 8]
+""")
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster, \
+            distributed.Client(cluster) as client, ResultStore(tmp_path / "r.sqlite") as st:
+        pids = list(client.run(os.getpid).values())
+        killer = threading.Timer(1.5, os.kill, (pids[0], signal.SIGKILL))
+        killer.start()
+        summary = run_cases(sc.cases, st, scheduler=client, progress=False)
+        assert killer.finished.is_set()  # the worker died while the sweep was running
+        killer.join()
+        assert summary.done + len(summary.failed) == len(sc.cases)
+        assert not summary.failed and len(st) == len(sc.cases)
