@@ -1,6 +1,7 @@
 """Shared CLI plumbing: one-line errors, number parsing, and JSON/human output."""
 
 import argparse
+import contextlib
 import json
 import math
 import re
@@ -10,7 +11,7 @@ from .._arguments import did_you_mean
 from .._errors import ConvergenceError, InsufficientMemoryError
 from .._numerics import is_inf_word
 
-__all__ = ["ArgumentParser", "USER_ERRORS", "fail", "parse_extent", "parse_order", "positive_float", "positive_int",
+__all__ = ["ArgumentParser", "progress_bars", "USER_ERRORS", "fail", "parse_extent", "parse_order", "positive_float", "positive_int",
            "print_json"]
 
 #: Exceptions that mean "the user asked for something impossible or wrong": one line, exit 2.
@@ -91,3 +92,43 @@ def parse_order(text):
 
 def print_json(obj):
     print(json.dumps(obj, indent=2, sort_keys=False, allow_nan=False))
+
+
+#: Seconds a stage must run before its bar appears: quick work stays silent.
+PROGRESS_DELAY = 2.0
+
+
+@contextlib.contextmanager
+def progress_bars(enabled=True, *, delay=PROGRESS_DELAY):
+    """Show what lower layers report (:mod:`arealaw._progress`) as tqdm bars on stderr, one per
+    stage (correlators, shifted solves, spectrum, ...), each with its ETA; a bar appears only
+    once its stage has run ``delay`` seconds, so quick work prints nothing."""
+    if not enabled:
+        yield
+        return
+    from tqdm import tqdm
+
+    from .._progress import reporting
+    bars = {}
+
+    def sink(stage, done, total):
+        scale = 1000 if isinstance(total, float) else 1  # fractions: per mille
+        t = None if total is None else int(round(total * scale))
+        d = int(round(done * scale))
+        bar = bars.get(stage)
+        if bar is not None and (d < bar.n or bar.total != t):
+            bar.close()  # the stage starts again (next region or set of shifts): a fresh bar,
+            bar = None   # shown only if this pass itself runs longer than the delay
+        if bar is None:
+            bar = bars[stage] = tqdm(total=t, desc=stage, file=sys.stderr, delay=delay,
+                                     leave=False, dynamic_ncols=True, mininterval=0.5, miniters=1,
+                                     bar_format=None if scale == 1 else
+                                     "{desc}: {percentage:3.0f}%|{bar}| [{elapsed}<{remaining}]")
+        bar.update(d - bar.n)
+
+    try:
+        with reporting(sink):
+            yield
+    finally:
+        for bar in bars.values():
+            bar.close()

@@ -7,7 +7,7 @@ from .._numerics import DEFAULT_TOL
 from ..methods._registry import choose_method, method_names
 from ..methods import radial_lattice, shells
 from ..network._specs import network_from_spec, region_from_spec
-from ._common import HelpFormatter, parse_extent, parse_order, print_json
+from ._common import HelpFormatter, parse_extent, parse_order, print_json, progress_bars
 
 __all__ = ["register"]
 
@@ -102,6 +102,9 @@ def register(sub):
     out.add_argument("--plan", action="store_true",
                      help="only assess: print the method that would run, why, its estimated "
                           "time and memory, and compute nothing")
+    out.add_argument("--quiet", action="store_true",
+                     help="no progress bars (they appear on stderr, with an ETA, for stages "
+                          "running longer than a few seconds)")
     p.set_defaults(func=run)
 
 
@@ -184,6 +187,10 @@ def _report(args, net, region, region_b):
     res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
                   tol=args.tol, energies=args.energies, negativity=args.negativity,
                   temperature=args.temperature)
+    with progress_bars(not args.quiet):
+        res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
+                      tol=args.tol, energies=args.energies, negativity=args.negativity,
+                      temperature=args.temperature)
     out = res.to_dict()
     if "lmax" in res.info:  # partial waves: the explicit angular-momentum cut-off
         out["lmax"] = res.info["lmax"]

@@ -3,7 +3,7 @@
 import sys
 
 from ..workflow._validation import KINDS, references, run_validation
-from ._common import HelpFormatter, print_json
+from ._common import HelpFormatter, print_json, progress_bars
 
 __all__ = ["register"]
 
@@ -22,6 +22,9 @@ def register(sub):
                        epilog=EPILOG, formatter_class=HelpFormatter)
     p.add_argument("--quick", action="store_true", help="only the quick subset")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--quiet", action="store_true",
+                   help="no progress bar (with --json a bar over the references appears on "
+                        "stderr after a few seconds)")
     p.set_defaults(func=run)
 
 
@@ -44,7 +47,11 @@ def _line(row):
 def run(args):
     refs = references(quick=args.quick)
     if args.json:
-        rows = run_validation(refs)
+        from .._progress import report
+        with progress_bars(not args.quiet):
+            done = []
+            rows = run_validation(refs, progress=lambda row: (
+                done.append(row), report("references", len(done), len(refs))))
     else:
         print(f"arealaw validate: {len(refs)} reference values"
               + (" (quick subset)" if args.quick else ""))

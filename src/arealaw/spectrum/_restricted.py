@@ -31,6 +31,7 @@ from .._numerics import DEFAULT_ENTROPY_TOL, EPS, check_tol, require_memory
 from ._symplectic import SymplecticSpectrum, Tail, symplectic_spectrum
 from ..correlators import operator_trace
 from ..correlators._base import as_array, apply
+from .._progress import report
 
 __all__ = ["restricted_spectrum"]
 
@@ -357,6 +358,7 @@ def _block_lanczos(xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trac
     result = None
     m = b
     for j in range(max_blocks):
+        report("spectrum", j, max_blocks)
         m = (j + 1) * b
         s = j * b
         if m + b > n:

@@ -57,7 +57,7 @@ def save_figure(fig, stem=None, formats=("png",), *, dpi=110):
     png, paths = None, []
     for fmt in dict.fromkeys(["png", *formats]):
         buf = io.BytesIO()
-        fig.savefig(buf, format=fmt, dpi=dpi, bbox_inches="tight")
+        fig.savefig(buf, format=fmt, dpi=dpi)  # constrained layout: no second draw for "tight"
         data = buf.getvalue()
         if fmt == "png":
             png = data

@@ -12,12 +12,15 @@ Two engines:
 Both return the kept rows and, per shift and column, the residual norm reached.
 """
 
+import math
+
 import numpy as np
 import pyamg
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from ..._errors import ConvergenceError
+from ..._progress import report
 
 __all__ = ["amg_shifted_cg", "multishift_cg"]
 
@@ -77,6 +80,8 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
         res = np.sqrt(np.maximum(rr, 0.0))[None, :] / np.abs(pi)
         done = res <= target
         frozen |= done
+        if it % 8 == 0:
+            _report_residual(res, bnorm, frozen, float(rtol.min()))
         if np.all(frozen, axis=0).any() or it >= maxiter:
             fin = np.all(frozen, axis=0) if it < maxiter else np.ones(cols.size, dtype=bool)
             z_out[:, :, cols[fin]] = xs[:, :, fin]
@@ -169,4 +174,13 @@ def amg_shifted_cg(a, b_mat, shifts, rhs_of_shift, keep, *, rtol, maxiter):
                     f"{float(rtol[j]):.3g}); raise maxiter or tol")
             z_out[j, :, col] = x[keep]
             resid_out[j, col] = res
+        report("shifted solves", j + 1, shifts.size)
     return z_out, resid_out, total
+
+
+def _report_residual(res, bnorm, frozen, rtol):
+    """Progress of the shifted solves as the fraction of the way (in log residual) to rtol."""
+    rel = np.where(frozen, 0.0, res / np.maximum(bnorm, np.finfo(float).tiny)[None, :])
+    worst = float(rel.max()) if rel.size else 0.0
+    frac = 1.0 if worst <= rtol else max(0.0, min(1.0, math.log(worst) / math.log(rtol)))
+    report("shifted solves", frac, 1.0)

@@ -13,6 +13,7 @@ import numpy as np
 from ..._errors import UnsupportedMethodError
 from ..._costs import cost
 from ..._numerics import available_bytes, require_memory
+from ..._progress import report
 from .._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
 from .._temperature import check_temperature
 from ._convolution import box_grid_points, box_operator_bytes, box_operators
@@ -110,6 +111,7 @@ class _Gather:
                     ps -= np.take(vp, flat)
             xs *= self.fx
             ps *= self.fp
+            report("correlators", sl.stop, n_r)
             yield sl, xs, ps
 
 
