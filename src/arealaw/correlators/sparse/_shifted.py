@@ -81,7 +81,7 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
         done = res <= target
         frozen |= done
         if it % 8 == 0:
-            _report_residual(res, bnorm, frozen, float(rtol.min()))
+            _report_residual(res, bnorm[cols], frozen, float(rtol.min()))
         if np.all(frozen, axis=0).any() or it >= maxiter:
             fin = np.all(frozen, axis=0) if it < maxiter else np.ones(cols.size, dtype=bool)
             z_out[:, :, cols[fin]] = xs[:, :, fin]
