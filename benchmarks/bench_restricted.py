@@ -19,8 +19,8 @@ import scipy.sparse.linalg as spla
 
 from arealaw import (ball, entropy_error_bound, hypercubic, symplectic_spectrum,
                      von_neumann_entropy)
-from arealaw.network._regions import cut_couplings
-from arealaw.spectrum._restricted import restricted_spectrum
+from arealaw.network import boundary_sites
+from arealaw.spectrum import restricted_spectrum
 from arealaw.correlators import SpectralBackend
 
 from ._common import one_blas_thread
@@ -54,11 +54,6 @@ class CountingOperator(spla.LinearOperator):
 def ball_case(radius):
     net = hypercubic((2 * radius + 12,) * 3, mass=0.0)
     return net, ball(net, radius)
-
-
-def boundary_sites(net, region):
-    """Sites of the region coupled to its complement."""
-    return int(np.count_nonzero(np.diff(cut_couplings(net, region.indices).indptr)))
 
 
 def run_restricted(backend, net, region):

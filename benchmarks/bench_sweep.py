@@ -10,9 +10,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from arealaw.workflow._scenario import Case
-from arealaw.workflow._store import ResultStore
-from arealaw.workflow._sweep import run_cases
+from arealaw.workflow import Case, ResultStore, run_cases
 
 N_CASES = 12
 

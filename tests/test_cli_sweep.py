@@ -7,7 +7,7 @@ import json
 import pytest
 from numpy.testing import assert_allclose
 
-from arealaw.workflow._scenario import load_scenario
+from arealaw.workflow import load_scenario
 from arealaw.cli import main
 
 SCENARIO = """

@@ -6,7 +6,7 @@ from numpy.testing import assert_allclose
 
 import arealaw
 from arealaw import ball, box, entropy_error_bound, symplectic_spectrum, von_neumann_entropy
-from arealaw.spectrum._restricted import restricted_spectrum
+from arealaw.spectrum import restricted_spectrum
 from arealaw.correlators import (SpectralBackend, get_backend, spectral_correlators,
                                  spectral_trace)
 

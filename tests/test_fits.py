@@ -4,10 +4,7 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from arealaw.workflow._fits import fit_rows, fit_scaling
-from arealaw.workflow._scenario import Case
-from arealaw.workflow._store import ResultStore
-from arealaw.workflow._sweep import run_cases
+from arealaw.workflow import Case, ResultStore, fit_rows, fit_scaling, run_cases
 
 
 def test_recovers_3d_coefficients_from_noisy_data():

@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from arealaw import ball, box, hypercubic
+from arealaw import ball, box, hypercubic, region_modes
 from arealaw.views._plots import (MARGIN, error_bar_label, mode_figure, region_figure,
                                   save_figure, scaling_figure)
 from arealaw.workflow._fits import fit_scaling
@@ -10,7 +10,8 @@ from arealaw.workflow._fits import fit_scaling
 
 def test_chain_modes_are_line_plots_with_unit_norm_profiles():
     net = hypercubic(40, mass=0.1)
-    fig = mode_figure(net, box(net, 10, origin=5), count=2)
+    reg = box(net, 10, origin=5)
+    fig = mode_figure(net, reg, *region_modes(net, reg, count=2))
     (ax,) = fig.axes
     lines = [ln for ln in ax.get_lines() if len(ln.get_xdata()) == 10]
     assert len(lines) == 2 and not ax.images
@@ -22,7 +23,7 @@ def test_chain_modes_are_line_plots_with_unit_norm_profiles():
 def test_3d_slices_are_cropped_to_the_region_and_a_margin():
     net = hypercubic((30, 30, 30), mass=0.2)
     reg = ball(net, 3.0)
-    for fig in (region_figure(net, reg), mode_figure(net, reg, count=1)):
+    for fig in (region_figure(net, reg), mode_figure(net, reg, *region_modes(net, reg, count=1))):
         ax = fig.axes[0]
         coords = np.asarray(net.coords(reg.indices))
         lo, hi = coords[:, 2].min() - MARGIN - 0.5, coords[:, 2].max() + MARGIN + 0.5

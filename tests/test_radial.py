@@ -5,7 +5,9 @@ import pytest
 from numpy.testing import assert_allclose
 
 import arealaw as al
-from arealaw.methods import RadialMethod, radial_chain, radial_entropy, radial_lattice, shells
+from arealaw import radial_entropy
+from arealaw.methods import RadialMethod
+from arealaw.network import radial_chain, radial_lattice, shells
 
 
 def _direct_chain(n_radial, l, dim):

@@ -2,16 +2,18 @@
 tail bound.  All reference values here come from the dense solver in this package (computed), or
 from synthetic spectra built with a known answer (common practice, no source)."""
 
+import pickle
+
 import numpy as np
 import pytest
 import scipy.sparse.linalg as spla
 
 import arealaw
-from arealaw import (ConvergenceError, entropy_error_bound, renyi_entropy, symplectic_spectrum,
-                     von_neumann_entropy)
-from arealaw.spectrum._restricted import restricted_spectrum
+from arealaw import (ConvergenceError, entropy_error_bound, renyi_entropy, restricted_spectrum,
+                     symplectic_spectrum, von_neumann_entropy)
 from arealaw.correlators import operator_trace
 from arealaw.correlators import get_backend
+from arealaw.network import boundary_sites
 
 ORDERS = [1.0, 2.0, 0.5, np.inf]
 
@@ -147,8 +149,13 @@ def test_early_stop_bound_covers_unconverged_modes():
 def test_convergence_error_names_the_bound_reached():
     nu = SYNTHETIC["exponential"]
     x, p = _synthetic_blocks(nu, seed=1)
-    with pytest.raises(ConvergenceError, match="tail bound"):
+    with pytest.raises(ConvergenceError, match="tail bound") as exc:
         restricted_spectrum(x, p, entropy_tol=1e-10, block_size=4, maxiter=3)
+    # the error carries what was reached (DEVELOPERS.md): a bound above the request, 3 blocks
+    assert exc.value.residual > 1e-10 and exc.value.iterations == 3
+    again = pickle.loads(pickle.dumps(exc.value))  # survives joblib's process boundary
+    assert (again.residual, again.iterations, str(again)) == (exc.value.residual, 3,
+                                                              str(exc.value))
 
 
 @pytest.mark.parametrize("kwargs,match", [({"entropy_tol": 0.0}, "entropy_tol"),
@@ -167,13 +174,6 @@ def test_shape_mismatch_is_refused():
         restricted_spectrum(np.eye(4), np.eye(5))
 
 
-def _boundary_sites(net, reg):
-    mask = np.zeros(net.n_sites, bool)
-    mask[reg.indices] = True
-    sub = net.potential.tocsr()[reg.indices]
-    return int(np.count_nonzero(np.diff(sub[:, ~mask].indptr) > 0))
-
-
 @pytest.mark.parametrize("tol", [1e-6, 1e-10], ids=["tol1e-6", "tol1e-10"])
 def test_modes_kept_follow_the_boundary_not_the_volume(tol):
     # area law of the spectrum (Srednicki 1993; Casini & Huerta 2009 review): the number of ν
@@ -182,7 +182,7 @@ def test_modes_kept_follow_the_boundary_not_the_volume(tol):
     reg = arealaw.box(net, 30)
     b = get_backend("dense").blocks(net, reg.indices)
     spec = restricted_spectrum(b.x, b.p, entropy_tol=tol)
-    area = _boundary_sites(net, reg)
+    area = boundary_sites(net, reg)
     assert 0.5 * area <= len(spec) <= 4 * area
     assert len(spec) < 0.4 * reg.size
 

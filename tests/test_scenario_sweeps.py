@@ -11,9 +11,7 @@ from arealaw import box, entropy, hypercubic, radial_lattice, shells
 from arealaw.workflow._decay import fit_decay, fit_decay_rows
 from arealaw.workflow._ensembles import average_realisations, split_seed
 from arealaw.workflow._expressions import evaluate
-from arealaw.workflow._fits import fit_rows
-from arealaw.workflow._scenario import load_scenario, parse_scenario
-from arealaw.workflow._store import ResultStore
+from arealaw.workflow import ResultStore, fit_rows, load_scenario, parse_scenario
 from arealaw.workflow._sweep import compute_case, run_cases
 
 CHAIN = """

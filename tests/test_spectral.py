@@ -231,7 +231,7 @@ def test_tiny_mass_on_a_torus_is_a_convergence_error():
 
 
 def test_auto_reports_parity_sectors_only_for_symmetric_regions():
-    from arealaw.methods._registry import choose_method
+    from arealaw.methods import choose_method
     net = al.hypercubic((100, 100, 100), mass=0.0)
     symmetric = choose_method(net, [al.ball(net, 13)], tol=1e-10)
     assert symmetric.method.name == "spectral" and "8 parity sectors" in symmetric.reason

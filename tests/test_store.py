@@ -10,8 +10,7 @@ import time
 import pytest
 from numpy.testing import assert_allclose
 
-from arealaw.workflow._scenario import Case, load_scenario
-from arealaw.workflow._store import ResultStore
+from arealaw.workflow import Case, ResultStore, load_scenario
 from arealaw.workflow._sweep import compute_case
 
 

@@ -7,8 +7,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 from arealaw import box, entropy, hypercubic
-from arealaw.workflow._scenario import Case, parse_scenario
-from arealaw.workflow._store import ResultStore
+from arealaw.workflow import Case, ResultStore, parse_scenario
 from arealaw.workflow._sweep import boundary_bonds, compute_case, run_cases
 
 SCENARIO = """
@@ -110,11 +109,11 @@ def test_boundary_bonds_count_the_cut():
 
 
 def test_most_entangled_mode_is_an_eigenvector_of_xp():
-    from arealaw.views._plots import entangled_modes
+    from arealaw import region_modes
     from arealaw.correlators import dense_correlators
     net = hypercubic((8, 8), mass=0.3)
     reg = box(net, [3, 3])
-    nu, u = entangled_modes(net, reg, count=2, method="dense")
+    nu, u = region_modes(net, reg, count=2, method="dense")
     x, p, _ = dense_correlators(net)
     xa, pa = x[np.ix_(reg.indices, reg.indices)], p[np.ix_(reg.indices, reg.indices)]
     top = np.sqrt(np.sort(np.linalg.eigvals(xa @ pa).real)[::-1][:2])

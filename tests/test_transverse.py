@@ -55,6 +55,9 @@ def test_infinite_transverse_integral_matches_large_periodic_ring():
     assert res.entropy is None and res.method == "transverse"
     d = res.to_dict()
     assert d["entropy"] is None and d["entropy_per_area"] == res.entropy_per_area
+    # infinite counts are numbers in Python and "inf" in JSON
+    assert res.is_infinite and res.sites == res.region_sites == math.inf
+    assert d["sites"] == d["region_sites"] == "inf"
     ring = al.hypercubic((10, 256), mass=0.1, boundary=DIRICHLET_PERIODIC)
     per_site = al.entropy(ring, al.half_space(ring, 0, 5), method="transverse").entropy / 256
     assert_allclose(res.entropy_per_area, per_site, rtol=1e-9)

@@ -13,12 +13,14 @@ True
 """
 
 from .methods import _builtin  # noqa: F401  (registers dense, spectral, sparse, ...)
-from ._entropy import EntropyResult, NegativityResult, entropy, logarithmic_negativity
+from ._entropy import (EntropyResult, NegativityResult, entropy, logarithmic_negativity,
+                       radial_entropy, region_modes)
+from ._version import __version__
 from ._errors import ConvergenceError, InsufficientMemoryError, UnsupportedMethodError
-from .methods import choose_method, method_names, radial_entropy, radial_lattice, shells
+from .methods import choose_method, method_names
 from .network import (HypercubicLattice, OscillatorNetwork, Region, ball, box, complement,
                       difference, from_mask, from_sites, half_space, hypercubic, intersection,
-                      load_network, slab, union)
+                      load_network, radial_lattice, shells, slab, union)
 from .spectrum import (SymplecticSpectrum, Tail, combine_spectra, entanglement_energies,
                        entropy_error_bound, mode_entropy, mutual_information, renyi_entropy,
                        restricted_spectrum, symplectic_spectrum, von_neumann_entropy)
@@ -26,7 +28,6 @@ from .views import write_report
 from .workflow import (Case, FitResult, ResultStore, Scenario, fit_rows, fit_scaling,
                        load_scenario, parse_scenario, run_cases)
 
-__version__ = "0.1.0"
 
 __all__ = sorted([
     "Case", "ConvergenceError", "EntropyResult", "FitResult", "NegativityResult", "ResultStore", "Scenario",
@@ -37,5 +38,6 @@ __all__ = sorted([
     "entanglement_energies", "entropy", "entropy_error_bound", "from_mask", "from_sites",
     "half_space", "hypercubic", "intersection", "load_network", "logarithmic_negativity",
     "method_names", "mode_entropy", "mutual_information", "radial_entropy", "radial_lattice",
+    "region_modes",
     "renyi_entropy", "shells", "slab", "union", "von_neumann_entropy",
 ])

@@ -5,6 +5,7 @@ import time
 from dataclasses import dataclass, field
 
 import numpy as np
+from threadpoolctl import threadpool_limits
 
 from ._numerics import DEFAULT_TOL, check_tol, require_memory
 from .spectrum._measures import (entanglement_energies, entropy_error_bound, mutual_information,
@@ -13,10 +14,14 @@ from .correlators import check_temperature
 from .spectrum._negativity import (log_negativity, log_negativity_error_bound,
                                    partial_transpose_spectrum)
 from ._errors import ConvergenceError, UnsupportedMethodError
+from .spectrum._modes import entangled_modes
+from .methods._radial import DEFAULT_RTOL as RADIAL_RTOL, RadialMethod
 from .methods._registry import Choice, Method, block_error_form, choose_method, method_names
+from .network._radial import radial_lattice, shells
 from .network._regions import check_network, check_region, union
 
-__all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativity"]
+__all__ = ["EntropyResult", "NegativityResult", "entropy", "logarithmic_negativity",
+           "radial_entropy", "region_modes"]
 
 
 @dataclass
@@ -29,6 +34,11 @@ class EntropyResult:
     ``error_bound`` bounds |S − S_exact| from the numerics (eigenvalue residuals, clamping,
     correlator approximation and solver tolerances, omitted tails).  :meth:`to_dict` gives the
     JSON layout printed by ``arealaw entropy --json``.
+
+    ``sites`` counts the network's oscillators and ``region_sites`` the region's: whole
+    numbers, or ``math.inf`` for a lattice with an infinite axis (``is_infinite``) and for a
+    region that is infinite along it (then ``entropy`` is None and ``entropy_per_area`` is
+    given).  JSON writes ``math.inf`` as ``"inf"``.
     """
 
     entropy: float
@@ -38,8 +48,8 @@ class EntropyResult:
     modes: int
     method: str
     reason: str
-    sites: object
-    region_sites: int
+    sites: float
+    region_sites: float
     region: str
     network: str
     seconds: float = 0.0
@@ -58,6 +68,8 @@ class EntropyResult:
     info: dict = field(default_factory=dict)
 
     def to_dict(self):
+        """JSON-ready dict (the layout of ``arealaw entropy --json``); absent measures are left out.
+        """
         d = {k: v for k, v in self.__dict__.items() if k not in ("spectrum",)}
         if self.log_negativity is None:
             d.pop("log_negativity")
@@ -71,6 +83,11 @@ class EntropyResult:
         if self.entropy_per_area is None:
             d.pop("entropy_per_area")
         return _jsonable(d)
+
+    @property
+    def is_infinite(self):
+        """True for a network with infinitely many oscillators (``sites`` is ``math.inf``)."""
+        return math.isinf(self.sites)
 
 
 @dataclass
@@ -218,7 +235,7 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     res = EntropyResult(
         entropy=s, error_bound=err, renyi=ren, renyi_error_bound=ren_err,
         modes=int(round(spectra[0].n_modes)), method=choice.method.name, reason=choice.reason,
-        sites=network.n_sites if network.n_sites is not None else "inf",
+        sites=network.n_sites if network.n_sites is not None else math.inf,
         region_sites=region.size, region=region.description, network=repr(network),
         spectrum=spectra[0], info=_info(spectra[0]), temperature=temperature)
     if "n_radial" in spectra[0].info and "lmax" in spectra[0].info:
@@ -230,7 +247,7 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         res.info["partial_waves"] = waves
     if spectra[0].info.get("per_area"):
         # infinite transverse axes: S itself is infinite; the spectrum is weighted per unit area
-        res.entropy_per_area, res.entropy, res.region_sites = s, None, "inf"
+        res.entropy_per_area, res.entropy, res.region_sites = s, None, math.inf
     if energies:
         res.entanglement_energies = entanglement_energies(spectra[0])[:energies].tolist()
     if region_b is not None:
@@ -292,6 +309,78 @@ def _spectra_with_fallback(choice, network, regions, tol, temperature):
     name, msg = tried[0]
     raise ValueError(f"every method that could serve this case failed: {name}: {msg}"
                      + "".join(f"; {n}: {m}" for n, m in tried[1:]))
+
+
+def radial_entropy(n_radial, n_shells, *, dim=3, mass=0.0, renyi=(), lmax=None,
+                   rtol=RADIAL_RTOL, tol=DEFAULT_TOL, n_jobs=None):
+    """Entanglement entropy of a ball of ``n_shells`` radial sites (R = n + ½) on the radial lattice.
+
+    Parameters
+    ----------
+    n_radial : int
+        Radial sites N (Dirichlet wall at N + 1).
+    n_shells : int
+        The ball: the first n radial sites, 1 ≤ n < N.
+    dim : {2, 3}
+    mass : float
+    renyi : sequence
+        Rényi orders besides von Neumann.
+    lmax : int, optional
+        Fixed angular-momentum cut-off (the rest is only bounded).  Default: sum exactly up to
+        L = max(8n, 48) and integrate the tail in ln l until it is known to ``rtol``.
+    rtol : float
+        Relative accuracy aimed at for the l-sum.
+    tol : float
+        Absolute accuracy floor of the l-sum.
+    n_jobs : int, optional
+        joblib workers for the sectors (default: parallel only when it pays).
+
+    Returns
+    -------
+    EntropyResult
+        ``info['lmax']`` is the explicit cut-off, ``info['l_tail_estimate']`` the integrated tail,
+        and ``error_bound`` includes the bound on the l-sum.
+
+    Examples
+    --------
+    >>> from arealaw import radial_entropy
+    >>> res = radial_entropy(20, 5, lmax=40)
+    >>> 0.25 < res.entropy / 5.5**2 < 0.32
+    True
+    """
+    net = radial_lattice(n_radial, dim=dim, mass=mass)
+    region = shells(net, n_shells)
+    method = RadialMethod(lmax=lmax, rtol=rtol, n_jobs=n_jobs)
+    res = entropy(net, region, renyi=renyi, method=method, tol=tol)
+    return res
+
+
+def region_modes(network, region, *, count=2, method="auto", tol=DEFAULT_TOL):
+    """Symplectic eigenvalues ν and site profiles of the ``count`` most entangled modes.
+
+    Reads the region's blocks X_A, P_A from a method that provides them and passes them to
+    :func:`arealaw.spectrum.entangled_modes`.
+
+    Returns
+    -------
+    nu : ndarray, shape (count,)
+    u : ndarray, shape (count, region.size)
+        Unit-norm eigenvectors of X_A P_A, largest ν first.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic, box, region_modes
+    >>> net = hypercubic((10, 10), mass=0.2)
+    >>> nu, u = region_modes(net, box(net, [4, 4]), count=1)
+    >>> bool(nu[0] > 0.5), u.shape
+    (True, (1, 16))
+    """
+    tol = check_tol(tol)
+    _check_region(network, region, "region")
+    choice = choose_method(network, [region], method, tol=tol, blocks=True)
+    with threadpool_limits(limits=1):  # threaded BLAS only loses time on small shared machines
+        b = choice.method.blocks(network, region.indices, tol=tol)
+        return entangled_modes(b.x, b.p, count=count)
 
 
 def _info(spec):

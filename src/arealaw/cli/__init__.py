@@ -8,7 +8,7 @@ import importlib
 import os
 import sys
 
-from .. import __version__
+from .._version import __version__
 from ._common import USER_ERRORS, ArgumentParser, HelpFormatter, fail
 
 __all__ = ["main"]

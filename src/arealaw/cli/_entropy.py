@@ -5,8 +5,8 @@ import math
 from .._entropy import entropy
 from .._numerics import DEFAULT_TOL
 from ..methods._registry import choose_method, method_names
-from ..methods import radial_lattice, shells
-from ..network._specs import network_from_spec, region_from_spec
+from ..network import network_from_spec, radial_lattice, region_from_spec, shells
+from ..network._specs import LATTICE_SPEC, MATRIX_SPEC, REGION_SPEC
 from ._common import HelpFormatter, parse_extent, parse_order, print_json, progress_bars
 
 __all__ = ["register"]
@@ -29,24 +29,20 @@ Sites are in C order (last axis fastest); coordinates are 0-based site indices.
 """
 
 
+_TYPES = {"int": int, "float": float, "str": str, "path": str, "extent": parse_extent}
+
+
+def _add_options(group, keys, suffix="", tag=""):
+    """One option per spec key (``--half-space`` for ``half_space``), from the network layer."""
+    for k in keys:
+        help_ = k.help if not tag or k.of else k.help.replace(":", tag + ":", 1)
+        group.add_argument(f"--{k.key.replace('_', '-')}{suffix}", nargs=k.count,
+                           type=_TYPES[k.kind], metavar=k.metavar, help=help_)
+
+
 def _region_options(parser, suffix=""):
-    tag = "" if not suffix else " of region B"
     g = parser.add_argument_group("region" + (" B (for mutual information)" if suffix else ""))
-    g.add_argument(f"--box{suffix}", nargs="+", type=int, metavar="S",
-                   help=f"box{tag}: sites per axis")
-    g.add_argument(f"--origin{suffix}", nargs="+", type=int, metavar="O",
-                   help="corner of the box (default: centred)")
-    g.add_argument(f"--ball{suffix}", type=float, metavar="R",
-                   help=f"ball{tag}: sites at distance <= R from the centre")
-    g.add_argument(f"--center{suffix}", nargs="+", type=float, metavar="C",
-                   help="centre of the ball (default: lattice centre)")
-    g.add_argument(f"--half-space{suffix}", nargs=2, type=int, metavar=("AXIS", "AT"),
-                   help="sites with coordinate < AT along AXIS")
-    g.add_argument(f"--slab{suffix}", nargs=3, type=int, metavar=("AXIS", "START", "STOP"),
-                   help="sites with START <= coordinate < STOP along AXIS")
-    g.add_argument(f"--sites{suffix}", metavar="FILE",
-                   help="text file with one flat site index per line, or .npy")
-    g.add_argument(f"--mask{suffix}", metavar="FILE", help=".npy boolean mask over all sites")
+    _add_options(g, REGION_SPEC, suffix, " of region B" if suffix else "")
 
 
 def register(sub):
@@ -56,24 +52,7 @@ def register(sub):
                                    "of the region in the Gibbs state at temperature T).",
                        epilog=EPILOG, formatter_class=HelpFormatter)
     lat = p.add_argument_group("lattice (or matrices)")
-    lat.add_argument("--shape", nargs="+", type=parse_extent, metavar="N",
-                     help="sites per axis (1-3 axes); 'inf' for an infinite axis")
-    lat.add_argument("--mass", type=float, default=None, help="field mass m >= 0 (default 0)")
-    lat.add_argument("--boundary", nargs="+", metavar="B",
-                     help="dirichlet | periodic | open, one value or one per axis "
-                          "(default dirichlet)")
-    lat.add_argument("--coupling", nargs="+", type=float, metavar="J",
-                     help="nearest-neighbour coupling, one value or one per axis (default 1)")
-    lat.add_argument("--inertia", type=float, help="oscillator mass (diagonal of M, default 1)")
-    lat.add_argument("--mass-disorder", type=float, metavar="W",
-                     help="seeded random site masses m_i = m + W*u_i, u_i ~ U(0,1) "
-                          "independent per site; any W >= 0")
-    lat.add_argument("--coupling-disorder", type=float, metavar="W",
-                     help="seeded random couplings J_b = J*(1 + W*u_b), u_b ~ U(-1,1) "
-                          "independent per bond; 0 <= W < 1 keeps every J_b > 0")
-    lat.add_argument("--seed", type=int, help="seed of the disorder")
-    lat.add_argument("--potential", metavar="V.npz", help="potential matrix (scipy save_npz)")
-    lat.add_argument("--kinetic", metavar="M.npz", help="kinetic matrix (scipy save_npz)")
+    _add_options(lat, LATTICE_SPEC + MATRIX_SPEC)
     rad = p.add_argument_group("radial lattice (balls by partial waves, Srednicki 1993)")
     rad.add_argument("--radial", type=int, metavar="N",
                      help="N radial sites (Dirichlet wall at N+1) instead of --shape")
@@ -109,19 +88,12 @@ def register(sub):
 
 
 def _network(args):
-    spec = {"shape": args.shape, "mass": args.mass, "boundary": args.boundary,
-            "coupling": args.coupling, "inertia": args.inertia,
-            "mass_disorder": args.mass_disorder, "coupling_disorder": args.coupling_disorder,
-            "seed": args.seed, "potential": args.potential, "kinetic": args.kinetic}
-    return network_from_spec(spec)
+    return network_from_spec({k.key: getattr(args, k.key) for k in LATTICE_SPEC + MATRIX_SPEC})
 
 
 def _region_spec(args, suffix=""):
     s = suffix.replace("-", "_")
-    spec = {"box": getattr(args, "box" + s), "origin": getattr(args, "origin" + s),
-            "ball": getattr(args, "ball" + s), "center": getattr(args, "center" + s),
-            "half_space": getattr(args, "half_space" + s), "slab": getattr(args, "slab" + s),
-            "sites": getattr(args, "sites" + s), "mask": getattr(args, "mask" + s)}
+    spec = {k.key: getattr(args, k.key + s) for k in REGION_SPEC}
     return {k: v for k, v in spec.items() if v is not None}
 
 

@@ -4,7 +4,8 @@ Every backend implements :class:`CorrelatorBackend`; :func:`get_backend` looks o
 name used in ``method=``.  New backends register themselves with :func:`register_backend`.
 """
 
-from ._base import Assessment, Blocks, CorrelatorBackend, RegionOperators, operator_trace
+from ._base import (Assessment, Blocks, CorrelatorBackend, RegionOperators, apply_operator,
+                    as_array, operator_trace, trace_rounding)
 from ._dense import DenseBackend, dense_correlators
 from ._temperature import check_temperature, coth_factor
 from .sparse import IllConditionedWarning, SparseBackend
@@ -39,8 +40,9 @@ register_backend(SpectralBackend())
 
 __all__ = sorted([
     "Assessment", "Blocks", "CorrelatorBackend", "DenseBackend", "IllConditionedWarning",
-    "RegionOperators", "SparseBackend", "backend_names", "check_temperature", "coth_factor",
+    "RegionOperators", "SparseBackend", "apply_operator", "as_array", "backend_names",
+    "check_temperature", "coth_factor",
     "operator_trace",
     "SpectralBackend", "dense_correlators", "get_backend", "register_backend",
-    "spectral_correlators", "spectral_trace",
+    "spectral_correlators", "spectral_trace", "trace_rounding",
 ])

@@ -8,20 +8,37 @@ import scipy.sparse.linalg as spla
 
 from .._numerics import EPS
 
-__all__ = ["Assessment", "Blocks", "CorrelatorBackend", "RegionOperators", "apply", "as_array",
-           "operator_trace", "trace_rounding"]
+__all__ = ["Assessment", "Blocks", "CorrelatorBackend", "RegionOperators", "apply_operator",
+           "as_array", "operator_trace", "trace_rounding"]
 
 
 def as_array(op):
-    """The dense matrix behind ``op`` if it has one (ndarray or a wrapped ndarray), else None."""
+    """The dense matrix behind ``op`` if it has one (ndarray or a wrapped ndarray), else None.
+
+    Examples
+    --------
+    >>> import numpy as np, scipy.sparse.linalg as spla
+    >>> from arealaw.correlators import as_array
+    >>> as_array(spla.aslinearoperator(np.eye(2))).shape, as_array(spla.LinearOperator(
+    ...     (2, 2), matvec=lambda v: v)) is None
+    ((2, 2), True)
+    """
     if isinstance(op, np.ndarray):
         return op
     a = getattr(op, "A", None)
     return a if isinstance(a, np.ndarray) else None
 
 
-def apply(op, arr, v):
-    """op·v, through the dense matrix ``arr`` when there is one."""
+def apply_operator(op, arr, v):
+    """op·v, through the dense matrix ``arr`` (from :func:`as_array`) when there is one.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from arealaw.correlators import apply_operator
+    >>> apply_operator(None, 2 * np.eye(2), np.ones(2)).tolist()
+    [2.0, 2.0]
+    """
     return arr @ v if arr is not None else np.asarray(op.matmat(v))
 
 
@@ -51,7 +68,7 @@ def operator_trace(x, p, *, block_size=256):
         else:
             unit = np.zeros((n, e - s))
             unit[np.arange(s, e), np.arange(e - s)] = 1.0
-            prod = (apply(x, xa, unit) * apply(p, pa, unit)).T
+            prod = (apply_operator(x, xa, unit) * apply_operator(p, pa, unit)).T
         rows[s:e] = prod.sum(axis=1) - 0.25
         absrows[s:e] = np.abs(prod).sum(axis=1) + 0.25
     return float(rows.sum()), trace_rounding(n, float(absrows.sum()))
@@ -74,6 +91,9 @@ class Blocks:
     with −H ⪯ X_exact − x ⪯ H in Loewner order: errors relative to the actual matrices, which the
     spectrum propagates through tr(H P) instead of ‖X‖·δP (much tighter on massless lattices).
     When given, they replace ``x_error``/``p_error`` in the spectrum's bounds.
+    ``entry_x_error`` and ``entry_p_error`` bound the error of any single entry, where the
+    backend can say (None otherwise); methods that assemble other blocks from the entries (parity
+    sectors) need them.
     """
 
     x: np.ndarray
@@ -83,6 +103,8 @@ class Blocks:
     info: dict = field(default_factory=dict)
     x_dominant: np.ndarray = None
     p_dominant: np.ndarray = None
+    entry_x_error: float = None
+    entry_p_error: float = None
 
 
 @dataclass

@@ -6,7 +6,7 @@ import weakref
 import numpy as np
 import scipy.linalg
 
-from .._errors import UnsupportedMethodError
+from .._errors import ZERO_MODE, UnsupportedMethodError
 from .._costs import cost
 from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
@@ -77,8 +77,7 @@ def dense_correlators(network, *, temperature=0.0):
     if lam[0] <= 64 * n * EPS * scale:
         raise ValueError(
             f"potential V is not positive definite (smallest eigenvalue of M^-1/2 V M^-1/2 is "
-            f"{lam[0]:.3g}); a zero mode has no normalisable ground state — add a mass or a "
-            "Dirichlet wall")
+            f"{lam[0]:.3g}); {ZERO_MODE}")
     omega = np.sqrt(lam)
     coth = coth_factor(omega, temperature)
     # ω/c and ω·c are ω itself at T = 0 (c = 1.0 exactly): the ground state bit for bit

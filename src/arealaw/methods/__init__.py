@@ -6,13 +6,12 @@ transverse momenta) split the problem into independent 1-D chains and join their
 :func:`arealaw.combine_spectra`.
 """
 
-from ._radial import (RadialLattice, RadialMethod, radial_chain, radial_entropy, radial_lattice,
-                      shells)
+from ._radial import RadialMethod
 from ._registry import BlockMethod, Method, choose_method, method_names, register_method
 from ._transverse import TransverseMethod, half_chain_spectrum
 from ._two_point import TwoPointMethod, two_point_spectrum
 
 __all__ = sorted([
-    "BlockMethod", "Method", "choose_method", "method_names", "register_method", "RadialLattice", "RadialMethod", "radial_chain", "radial_entropy", "radial_lattice",
-    "TransverseMethod", "TwoPointMethod", "half_chain_spectrum", "shells", "two_point_spectrum",
+    "BlockMethod", "Method", "RadialMethod", "TransverseMethod", "TwoPointMethod", "choose_method",
+    "half_chain_spectrum", "method_names", "register_method", "two_point_spectrum",
 ])

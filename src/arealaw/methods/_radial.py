@@ -20,23 +20,19 @@ import math
 import os
 
 import numpy as np
-import scipy.sparse as sp
 
 from .._errors import UnsupportedMethodError
 from .._costs import cost
-from .._numerics import DEFAULT_TOL
 from ..spectrum._measures import von_neumann_entropy
 from ._registry import Method
 from ..network._network import OscillatorNetwork
-from ..network._regions import region_of
+from ..network._radial import RadialLattice, radial_chain
 from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
 from ..correlators._dense import dominant_blocks
 
-__all__ = ["RadialLattice", "RadialMethod", "radial_chain", "radial_entropy", "radial_lattice",
-           "shells"]
+__all__ = ["RadialMethod", "degeneracy"]
 
-DIMENSIONS = (2, 3)
 #: Relative accuracy of the l-sum (tail estimate + bound) aimed at by default.
 DEFAULT_RTOL = 1e-6
 #: Gauss–Legendre nodes per unit panel in ln l for the tail quadrature (and the embedded check).
@@ -52,126 +48,12 @@ _THERMAL_REFUSAL = ("the radial method serves only the ground state (its large-l
 _T_RELIABLE = 1e-11
 
 
-def _check_dim(dim):
-    if dim not in DIMENSIONS:
-        raise ValueError(f"dim={dim!r}: the radial partial-wave method supports d = 2 and 3; for "
-                         "d = 1 (a chain) use arealaw.hypercubic with method='dense'")
-    return int(dim)
-
-
-def _check_size(n_radial):
-    if isinstance(n_radial, bool) or not isinstance(n_radial, (int, np.integer)) or n_radial < 2:
-        raise ValueError(f"n_radial={n_radial!r} must be a whole number >= 2 (radial sites)")
-    return int(n_radial)
-
-
-def _check_mass(mass):
-    if not (isinstance(mass, (int, float, np.floating)) and math.isfinite(mass) and mass >= 0):
-        raise ValueError(f"mass={mass!r} must be a finite number >= 0")
-    return float(mass)
-
-
 def degeneracy(l, dim):
     """g_d(l): 2l + 1 in 3-D; 1 for l = 0 and 2 otherwise in 2-D (l may be non-integer)."""
     l = np.asarray(l, dtype=float)
     if dim == 3:
         return 2 * l + 1
     return np.where(l == 0, 1.0, 2.0)
-
-
-def radial_chain(n_radial, l, *, dim=3, mass=0.0):
-    """Potential matrix (sparse, N × N) of the radial chain of angular momentum ``l``.
-
-    Examples
-    --------
-    >>> from arealaw.methods import radial_chain
-    >>> v = radial_chain(3, 0).toarray()
-    >>> float(v[0, 0]), float(v[1, 1]), round(float(v[0, 1]), 6)
-    (2.25, 2.125, -1.125)
-    """
-    n_radial = _check_size(n_radial)
-    dim = _check_dim(dim)
-    mass = _check_mass(mass)
-    if not (l >= 0 and math.isfinite(l)):
-        raise ValueError(f"angular momentum l={l!r} must be a finite number >= 0")
-    j = np.arange(1, n_radial + 1, dtype=float)
-    if dim == 3:
-        # bond j ↔ j+1 has weight (j+½)² between φ_j/j and φ_{j+1}/(j+1); site 1 has no inner bond
-        outer = (j + 0.5) ** 2 / j**2
-        inner = np.concatenate([[0.0], (j[1:] - 0.5) ** 2 / j[1:] ** 2])
-        off = -(j[:-1] + 0.5) ** 2 / (j[:-1] * j[1:])
-        centrifugal = l * (l + 1) / j**2
-    else:
-        outer = (j + 0.5) / j
-        inner = np.concatenate([[0.0], (j[1:] - 0.5) / j[1:]])
-        off = -(j[:-1] + 0.5) / np.sqrt(j[:-1] * j[1:])
-        centrifugal = l**2 / j**2
-    diag = outer + inner + centrifugal + mass**2
-    return sp.diags([off, diag, off], [-1, 0, 1], format="csr")
-
-
-class RadialLattice(OscillatorNetwork):
-    """The free scalar on N radial sites in d = 2 or 3 (all partial waves together).
-
-    It stands for infinitely many oscillators (every angular momentum), so it is infinite as a
-    network: ``n_sites`` is None, and its only sites for region building are the N radial shells
-    (index j − 1 for radius j).  Served by ``method='radial'``; build it with
-    :func:`radial_lattice` and regions with :func:`shells`.
-    """
-
-    def __init__(self, n_radial, *, dim=3, mass=0.0):
-        self.n_radial = _check_size(n_radial)
-        self.dim = _check_dim(dim)
-        self.mass = _check_mass(mass)
-        self.lattice = None
-        self.potential = None
-        self.kinetic = None
-        self.n_sites = None
-        self._coords = np.arange(1, self.n_radial + 1, dtype=float)[:, None]
-
-    @property
-    def index_shape(self):
-        return None
-
-    @property
-    def index_limit(self):
-        return self.n_radial
-
-    @property
-    def ndim(self):
-        return self.dim
-
-    def coords(self, indices=None):
-        """Radii (j = index + 1) of the given shells."""
-        return self._coords if indices is None else self._coords[np.asarray(indices)]
-
-    def __repr__(self):
-        return (f"RadialLattice(N={self.n_radial}, d={self.dim}, m={self.mass:g}, "
-                "Dirichlet wall at N+1)")
-
-
-def radial_lattice(n_radial, *, dim=3, mass=0.0):
-    """The radial lattice of Srednicki (1993): N radial sites, d = 2 or 3, optional mass.
-
-    Examples
-    --------
-    >>> from arealaw import radial_lattice
-    >>> radial_lattice(40, dim=3)
-    RadialLattice(N=40, d=3, m=0, Dirichlet wall at N+1)
-    """
-    return RadialLattice(n_radial, dim=dim, mass=mass)
-
-
-def shells(network, n):
-    """The ball of the first ``n`` radial sites (radius R = n + ½) of a :class:`RadialLattice`."""
-    if not isinstance(network, RadialLattice):
-        raise ValueError("shells() needs a radial lattice (arealaw.radial_lattice); on a "
-                         "hypercubic lattice use arealaw.ball")
-    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or not 1 <= n < network.n_radial:
-        raise ValueError(f"shells n={n!r} must be a whole number with 1 <= n < N = "
-                         f"{network.n_radial} (the ball must end inside the lattice)")
-    return region_of(network, np.arange(int(n), dtype=np.int64),
-                     f"ball of {n} shells (R = {n + 0.5:g})", ("ball", n + 0.5, (0.0,) * network.dim))
 
 
 def _ball_shells(network, region):
@@ -291,6 +173,7 @@ class RadialMethod(Method):
         self.n_jobs = n_jobs
 
     def assess(self, network, regions, *, tol, temperature=0.0):
+        """Serve centred balls (:func:`arealaw.shells`) of a radial lattice at T = 0."""
         if temperature > 0:
             return Assessment(False, _THERMAL_REFUSAL)
         if not isinstance(network, RadialLattice):
@@ -309,6 +192,7 @@ class RadialMethod(Method):
                                 f"d = {network.dim}", 8.0 * network.n_radial**2 * 6, seconds)
 
     def spectrum(self, network, region, *, tol, temperature=0.0):
+        """Partial-wave sectors joined with weights, plus the bound on the l-sum."""
         if temperature > 0:
             raise UnsupportedMethodError(_THERMAL_REFUSAL)
         if not isinstance(network, RadialLattice):
@@ -320,49 +204,3 @@ class RadialMethod(Method):
         info.update(n_radial=network.n_radial, dim=network.dim, shells=n, radius=n + 0.5,
                     sectors=len(parts))
         return combine_spectra(parts, extra_error=bound, info=info)
-
-
-def radial_entropy(n_radial, n_shells, *, dim=3, mass=0.0, renyi=(), lmax=None,
-                   rtol=DEFAULT_RTOL, tol=DEFAULT_TOL, n_jobs=None):
-    """Entanglement entropy of a ball of ``n_shells`` radial sites (R = n + ½) on the radial lattice.
-
-    Parameters
-    ----------
-    n_radial : int
-        Radial sites N (Dirichlet wall at N + 1).
-    n_shells : int
-        The ball: the first n radial sites, 1 ≤ n < N.
-    dim : {2, 3}
-    mass : float
-    renyi : sequence
-        Rényi orders besides von Neumann.
-    lmax : int, optional
-        Fixed angular-momentum cut-off (the rest is only bounded).  Default: sum exactly up to
-        L = max(8n, 48) and integrate the tail in ln l until it is known to ``rtol``.
-    rtol : float
-        Relative accuracy aimed at for the l-sum.
-    tol : float
-        Absolute accuracy floor of the l-sum.
-    n_jobs : int, optional
-        joblib workers for the sectors (default: parallel only when it pays).
-
-    Returns
-    -------
-    EntropyResult
-        ``info['lmax']`` is the explicit cut-off, ``info['l_tail_estimate']`` the integrated tail,
-        and ``error_bound`` includes the bound on the l-sum.
-
-    Examples
-    --------
-    >>> from arealaw import radial_entropy
-    >>> res = radial_entropy(20, 5, lmax=40)
-    >>> 0.25 < res.entropy / 5.5**2 < 0.32
-    True
-    """
-    from .._entropy import entropy  # the reductions sit below the entropy API
-
-    net = radial_lattice(n_radial, dim=dim, mass=mass)
-    region = shells(net, n_shells)
-    method = RadialMethod(lmax=lmax, rtol=rtol, n_jobs=n_jobs)
-    res = entropy(net, region, renyi=renyi, method=method, tol=tol)
-    return res

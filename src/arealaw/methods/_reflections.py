@@ -118,9 +118,9 @@ class ReflectionBlockMethod(BlockMethod):
     """A block method that splits mirror-symmetric regions into parity sectors first.
 
     Only the rows of one site per orbit are computed (about n²/2^k entries instead of n²).
-    The backend must report ``entry_x_error``/``entry_p_error`` (bounds per entry) in its block
-    info, so the error of the full region block can be bounded (n × entry bound); otherwise the
-    whole block is used.
+    The backend must report ``Blocks.entry_x_error``/``entry_p_error`` (bounds per entry), so
+    the error of the full region block can be bounded (n × entry bound); otherwise the whole
+    block is used.
     """
 
     def assess(self, network, regions, *, tol, temperature=0.0):
@@ -152,7 +152,7 @@ class ReflectionBlockMethod(BlockMethod):
             return super().spectrum(network, region, tol=tol, temperature=temperature)
         idx = region.indices
         b = self.backend.blocks(network, idx[grp.reps], idx, tol=tol, temperature=temperature)
-        if "entry_x_error" not in b.info:
+        if b.entry_x_error is None or b.entry_p_error is None:
             return super().spectrum(network, region, tol=tol, temperature=temperature)
         parts, sizes = [], []
         for sigma in range(grp.size):
@@ -163,8 +163,8 @@ class ReflectionBlockMethod(BlockMethod):
             # a sector entry sums |G| entries with weights ≤ 1: its error is ≤ |G|·entry bound
             spec = symplectic_spectrum(_sector_block(b.x, grp, chi, cols),
                                        _sector_block(b.p, grp, chi, cols),
-                                       x_entry=grp.size * b.info["entry_x_error"],
-                                       p_entry=grp.size * b.info["entry_p_error"], info=b.info)
+                                       x_entry=grp.size * b.entry_x_error,
+                                       p_entry=grp.size * b.entry_p_error, info=b.info)
             parts.append((spec, 1.0))
             sizes.append(int(cols.size))
         if sum(sizes) != region.size:  # completeness of the sector bases

@@ -14,7 +14,7 @@ from .._costs import cost
 from .._errors import InsufficientMemoryError, UnsupportedMethodError
 from .._numerics import (MEMORY_FRACTION, available_bytes, fits_in_memory, format_bytes,
                          require_memory)
-from ..network._regions import cut_couplings
+from ..network import boundary_sites
 from ..spectrum._restricted import restricted_spectrum
 from ..spectrum._symplectic import symplectic_spectrum
 from ..correlators import Assessment, get_backend
@@ -35,14 +35,14 @@ RESTRICTED_MIN_SITES = 8000
 APPROXIMATE_ADVANTAGE = 3.0
 
 
-def _boundary_sites(network, indices):
-    """Sites of a region coupled to its complement (from V; a d-cube estimate if V is implicit)."""
-    cut = cut_couplings(network, indices)
-    if cut is None:
+def _boundary_estimate(network, indices):
+    """Boundary sites of a region (from V; a d-cube estimate when V is not formed)."""
+    count = boundary_sites(network, indices)
+    if count is None:
         n = indices.size
         d = max(1, getattr(network, "ndim", 3) or 3)
         return min(n, 2 * d * n ** ((d - 1) / d))
-    return int(np.count_nonzero(np.diff(cut.indptr)))
+    return count
 
 
 def restricted_modes_estimate(n, boundary, tol):
@@ -93,7 +93,7 @@ def restricted_plan(network, indices, tol, temperature=0.0):
     n = indices.size
     if n <= DENSE_SPECTRUM_LIMIT and n < RESTRICTED_MIN_SITES:
         return None
-    m = restricted_modes_estimate(n, _boundary_sites(network, indices), tol)
+    m = restricted_modes_estimate(n, _boundary_estimate(network, indices), tol)
     if n > DENSE_SPECTRUM_LIMIT or _restricted_seconds(n, m) < 0.5 * dense_spectrum_seconds(n):
         return m
     return None
@@ -137,8 +137,8 @@ def block_error_form(b):
     else spectral norms."""
     if b.x_dominant is not None or b.p_dominant is not None:
         return {"x_dominant": b.x_dominant, "p_dominant": b.p_dominant}
-    if "entry_x_error" in b.info and b.x.shape[0] == b.x.shape[1]:
-        return {"x_entry": b.info["entry_x_error"], "p_entry": b.info["entry_p_error"]}
+    if b.entry_x_error is not None and b.x.shape[0] == b.x.shape[1]:
+        return {"x_entry": b.entry_x_error, "p_entry": b.entry_p_error}
     return {"x_error": b.x_error, "p_error": b.p_error}
 
 
@@ -157,9 +157,13 @@ class Method:
     exact = False
 
     def assess(self, network, regions, *, tol, temperature=0.0):
+        """Return an :class:`~arealaw.correlators.Assessment`: can this method serve every one of
+        ``regions`` of ``network`` at this ``tol`` and temperature, at what memory and time.
+        """
         raise NotImplementedError
 
     def spectrum(self, network, region, *, tol, temperature=0.0):
+        """The :class:`~arealaw.SymplecticSpectrum` of ``region`` (with its error bounds)."""
         raise NotImplementedError
 
     def blocks(self, network, rows, cols=None, *, tol, temperature=0.0):

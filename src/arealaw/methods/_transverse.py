@@ -27,7 +27,7 @@ import scipy.special
 
 from .._costs import cost
 from .._numerics import EPS
-from .._errors import ConvergenceError, UnsupportedMethodError
+from .._errors import ZERO_MODE, ConvergenceError, UnsupportedMethodError
 from ..network._lattices import HypercubicLattice, hypercubic
 from ..spectrum._measures import von_neumann_entropy
 from ._registry import Method
@@ -218,6 +218,7 @@ class TransverseMethod(Method):
         self.max_levels = max_levels
 
     def assess(self, network, regions, *, tol, temperature=0.0):
+        """Serve half-spaces and slabs of uniform lattices with translation-invariant axes."""
         lat = network.lattice
         if not isinstance(lat, HypercubicLattice):
             return Assessment(False, "the transverse reduction needs a hypercubic lattice")
@@ -243,6 +244,7 @@ class TransverseMethod(Method):
                           len(regions) * n_k * chain)
 
     def spectrum(self, network, region, *, tol, temperature=0.0):
+        """One chain per transverse momentum, joined with weights (per area on infinite axes)."""
         axes, start, stop = _geometry(network, region)
         lat = network.lattice
         transverse = [lat.shape[a] for a in _transverse_axes(lat, axes)]
@@ -261,8 +263,8 @@ class TransverseMethod(Method):
     def _per_area(self, lat, axes, start, stop, tol, temperature=0.0):
         if lat.mass == 0 and stop is not None and "dirichlet" not in [lat.boundaries[a]
                                                                       for a in axes]:
-            raise ValueError("a massless lattice with periodic/open normal axes has a zero mode "
-                             "at k = 0; give a mass or a Dirichlet normal axis")
+            raise ValueError(f"k = 0 chain of a massless lattice with periodic/open normal axes: "
+                             f"{ZERO_MODE}")
         levels, nodes = 8, 6
         converged = True
         prev = _zone_parts(lat, axes, start, stop, levels, nodes, temperature)
@@ -284,7 +286,8 @@ class TransverseMethod(Method):
             if levels >= self.max_levels:
                 raise ConvergenceError(
                     f"the Brillouin-zone integral did not converge: change {err:.3g} between "
-                    f"the last two refinements ({levels} grading levels, {nodes} nodes)")
+                    f"the last two refinements ({levels} grading levels, {nodes} nodes)",
+                    residual=err, iterations=levels)
             prev, s_prev = parts, s
         return combine_spectra(parts, extra_error=err, info={
             "per_area": True, "axes": list(axes), "quadrature_nodes_per_axis": (levels + 1) * nodes,

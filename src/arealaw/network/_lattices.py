@@ -1,12 +1,13 @@
 """Hypercubic lattice builders: the lattice-regularised free scalar field, V = -Δ + m²."""
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
 
 from .._arguments import choice, real_number, whole_number
+from .._errors import ZERO_MODE
 from .._numerics import fits_in_memory, is_inf_word, require_memory
 from ._network import OscillatorNetwork
 
@@ -35,10 +36,10 @@ class HypercubicLattice:
     mass_disorder: float = 0.0
     coupling_disorder: float = 0.0
     seed: object = None
-    extra: dict = field(default_factory=dict, compare=False)
 
     @property
     def is_infinite(self):
+        """True when at least one axis is infinite."""
         return any(math.isinf(n) for n in self.shape)
 
     @property
@@ -52,6 +53,7 @@ class HypercubicLattice:
         )
 
     def describe(self):
+        """One line describing the lattice (shape, boundaries, mass, couplings, disorder)."""
         shape = "x".join("inf" if math.isinf(n) else str(int(n)) for n in self.shape)
         mass = f"m={self.mass:g}" if np.ndim(self.mass) == 0 else "per-site masses"
         bnd = ",".join(self.boundaries) if len(set(self.boundaries)) > 1 else self.boundaries[0]
@@ -239,10 +241,8 @@ def _check_zero_mode(masses, boundaries, shape):
         return
     kinds = "/".join(sorted({b for b in boundaries}))
     raise ValueError(
-        f"a massless lattice with {kinds} boundaries and {n_inf} infinite axes has a zero mode "
-        "and no normalisable ground state (divergent <q q>); give a mass > 0, use Dirichlet "
-        "walls, or at least two infinite axes"
-    )
+        f"massless lattice with {kinds} boundaries and {n_inf} infinite axes: {ZERO_MODE} (or "
+        "use at least two infinite axes)")
 
 
 def _assemble(shape, masses, couplings, boundaries, coupling_disorder, rng):

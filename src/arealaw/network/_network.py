@@ -7,6 +7,8 @@ import numpy as np
 import scipy.linalg
 import scipy.sparse as sp
 
+from .._errors import ZERO_MODE
+
 __all__ = ["OscillatorNetwork", "load_network"]
 
 #: Networks up to this size get an exact (dense) positive-definiteness check.
@@ -128,13 +130,6 @@ class OscillatorNetwork:
         return self.n_sites is None
 
     @property
-    def has_identity_kinetic(self):
-        """True when M is the identity."""
-        if self._factory is not None:
-            return np.ndim(self.lattice.inertia) == 0 and self.lattice.inertia == 1.0
-        return self.kinetic is None
-
-    @property
     def ndim(self):
         """Spatial dimension (lattice dimension, else coordinate dimension, else None)."""
         if self.lattice is not None:
@@ -254,10 +249,7 @@ def _check_spd(m, name, *, check_pd):
         lam = scipy.linalg.eigvalsh(m.toarray(), subset_by_index=[0, 0])[0]
         if lam <= 1e-14 * scale * n:
             raise ValueError(
-                f"{name} is not positive definite: smallest eigenvalue {lam:.3g}; "
-                "a zero mode (e.g. a massless periodic lattice) has no normalisable ground state — "
-                "add a mass or a Dirichlet wall"
-            )
+                f"{name} is not positive definite: smallest eigenvalue {lam:.3g}; {ZERO_MODE}")
         return
     off = np.asarray(abs(m).sum(axis=1)).ravel() - np.abs(diag)
     if np.all(diag - off > 0):

@@ -10,7 +10,7 @@ from .._numerics import require_memory
 from ._network import OscillatorNetwork
 
 __all__ = [
-    "Region", "ball", "box", "check_region", "complement", "cut_couplings", "difference",
+    "Region", "ball", "boundary_sites", "box", "check_region", "complement", "cut_couplings", "difference",
     "from_mask", "from_sites", "half_space", "intersection", "region_of", "slab", "union",
 ]
 
@@ -38,6 +38,7 @@ class Region:
 
     @property
     def size(self):
+        """Number of sites (0 for a region infinite along an axis)."""
         return int(self.indices.size)
 
     def __len__(self):
@@ -343,3 +344,23 @@ def cut_couplings(network, indices):
     outside = np.ones(v.shape[0], dtype=bool)
     outside[np.asarray(indices)] = False
     return v.tocsr()[np.asarray(indices)][:, outside]
+
+
+def boundary_sites(network, region):
+    """Number of sites of ``region`` coupled to its complement through V (None without V).
+
+    ``region`` is a :class:`Region` or an index array.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic, box
+    >>> from arealaw.network import boundary_sites
+    >>> net = hypercubic((8, 8), mass=0.1)
+    >>> boundary_sites(net, box(net, [3, 3], origin=[2, 2]))
+    8
+    """
+    indices = region.indices if isinstance(region, Region) else np.asarray(region)
+    cut = cut_couplings(network, indices)
+    if cut is None:
+        return None
+    return int(np.count_nonzero(np.diff(cut.indptr)))

@@ -8,6 +8,7 @@ exactly the same thing.  Network keys: ``shape``, ``mass``, ``boundary``, ``coup
 stop], ``sites`` (text file, one flat index per line, or ``.npy``), ``mask`` (``.npy`` boolean).
 """
 
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -17,13 +18,68 @@ from ._lattices import hypercubic
 from ._network import load_network
 from ._regions import ball, box, from_mask, from_sites, half_space, slab
 
-__all__ = ["REGION_KINDS", "network_from_spec", "region_from_spec"]
+__all__ = ["LATTICE_SPEC", "MATRIX_SPEC", "REGION_KINDS", "REGION_SPEC", "SpecKey",
+           "network_from_spec", "region_from_spec"]
 
-LATTICE_KEYS = ("shape", "mass", "boundary", "coupling", "inertia", "mass_disorder",
-                "coupling_disorder", "seed")
-MATRIX_KEYS = ("potential", "kinetic")
-REGION_KINDS = ("box", "ball", "half_space", "slab", "sites", "mask")
-REGION_OPTIONS = {"box": ("origin",), "ball": ("center",)}
+
+@dataclass(frozen=True)
+class SpecKey:
+    """One key of a network or region spec, as the CLI and scenario files spell it.
+
+    ``count`` is how many values it takes (``"+"``: one or more, None: one), ``kind`` their type
+    (``"extent"``: a positive integer or 'inf', ``"path"``: a file name), ``of`` the region kind
+    an option belongs to.
+    """
+
+    key: str
+    help: str
+    count: object = None
+    kind: str = "float"
+    metavar: object = None
+    of: str = None
+
+
+#: Keys of a hypercubic lattice (:func:`arealaw.hypercubic`), in the order of ``--help``.
+LATTICE_SPEC = (
+    SpecKey("shape", "sites per axis (1-3 axes); 'inf' for an infinite axis", "+", "extent", "N"),
+    SpecKey("mass", "field mass m >= 0 (default 0)"),
+    SpecKey("boundary", "dirichlet | periodic | open, one value or one per axis "
+                        "(default dirichlet)", "+", "str", "B"),
+    SpecKey("coupling", "nearest-neighbour coupling, one value or one per axis (default 1)",
+            "+", "float", "J"),
+    SpecKey("inertia", "oscillator mass (diagonal of M, default 1)"),
+    SpecKey("mass_disorder", "seeded random site masses m_i = m + W*u_i, u_i ~ U(0,1) "
+                             "independent per site; any W >= 0", metavar="W"),
+    SpecKey("coupling_disorder", "seeded random couplings J_b = J*(1 + W*u_b), u_b ~ U(-1,1) "
+                                 "independent per bond; 0 <= W < 1 keeps every J_b > 0",
+            metavar="W"),
+    SpecKey("seed", "seed of the disorder", kind="int"),
+)
+#: Keys of a network given by its matrices (:func:`arealaw.load_network`).
+MATRIX_SPEC = (
+    SpecKey("potential", "potential matrix (scipy save_npz)", kind="path", metavar="V.npz"),
+    SpecKey("kinetic", "kinetic matrix (scipy save_npz)", kind="path", metavar="M.npz"),
+)
+#: Region kinds (exactly one per region) and their options (``of`` the kind they refine).
+REGION_SPEC = (
+    SpecKey("box", "box: sites per axis", "+", "int", "S"),
+    SpecKey("origin", "corner of the box (default: centred)", "+", "int", "O", of="box"),
+    SpecKey("ball", "ball: sites at distance <= R from the centre", None, "float", "R"),
+    SpecKey("center", "centre of the ball (default: lattice centre)", "+", "float", "C",
+            of="ball"),
+    SpecKey("half_space", "sites with coordinate < AT along AXIS", 2, "int", ("AXIS", "AT")),
+    SpecKey("slab", "sites with START <= coordinate < STOP along AXIS", 3, "int",
+            ("AXIS", "START", "STOP")),
+    SpecKey("sites", "text file with one flat site index per line, or .npy", kind="path",
+            metavar="FILE"),
+    SpecKey("mask", ".npy boolean mask over all sites", kind="path", metavar="FILE"),
+)
+
+LATTICE_KEYS = tuple(k.key for k in LATTICE_SPEC)
+MATRIX_KEYS = tuple(k.key for k in MATRIX_SPEC)
+REGION_KINDS = tuple(k.key for k in REGION_SPEC if k.of is None)
+REGION_OPTIONS = {kind: tuple(k.key for k in REGION_SPEC if k.of == kind)
+                  for kind in REGION_KINDS if any(k.of == kind for k in REGION_SPEC)}
 
 
 def network_from_spec(spec):

@@ -19,7 +19,9 @@ the tail bound useless: ``methods.restricted_plan`` never chooses this solver at
 dense symplectic eigenproblem is used (or refused with its memory estimate).
 """
 
+import enum
 import math
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.linalg
@@ -29,11 +31,62 @@ from .._errors import ConvergenceError
 from ._measures import mode_entropy
 from .._numerics import DEFAULT_ENTROPY_TOL, EPS, check_tol, require_memory
 from ._symplectic import SymplecticSpectrum, Tail, symplectic_spectrum
-from ..correlators import operator_trace
-from ..correlators._base import as_array, apply
+from ..correlators import apply_operator, as_array, operator_trace
 from .._progress import report
 
 __all__ = ["restricted_spectrum"]
+
+
+class LanczosStatus(str, enum.Enum):
+    """How a block Lanczos run ended."""
+
+    #: the certified bound met the request, or more vectors could not lower it
+    DONE = "done"
+    #: stalled while the trace deficit exceeds what modes below the threshold can hold
+    INCONSISTENT = "inconsistent"
+    #: the Krylov basis would span the whole region (the dense form is cheaper)
+    FULL = "full"
+    #: the allowed number of blocks was used up
+    MAXITER = "maxiter"
+
+
+@dataclass(frozen=True)
+class TailAssessment:
+    """Kept Ritz values and the certified tail at one checkpoint (see :func:`_assess`)."""
+
+    k: int                  # modes kept
+    t: np.ndarray           # their Ritz values θ_1 ≥ … ≥ θ_k
+    rho: float              # Ritz rounding model per kept mode
+    tail_sum: float         # certified Σt of the n − k omitted modes (with rounding, block errors)
+    bound: float            # entropy bound of the tail, (n − k)·s(tail_sum/(n − k))
+    valid: bool             # some k satisfies the concavity condition (else bound is inf)
+    consistent: bool = False  # the deficit could hold only modes below the threshold
+    deficit: float = 0.0    # trace deficit beyond the kept Ritz values
+    floor: float = 0.0      # the part of tail_sum from rounding and block errors
+
+
+@dataclass(frozen=True)
+class _Operators:
+    """X_A, P_A (dense array or operator, one of each pair is None) and what bounds the tail."""
+
+    xa: object
+    x_op: object
+    pa: object
+    p_op: object
+    n: int
+    trace_t: float
+    trace_err: float
+    block_err: float
+
+
+@dataclass(frozen=True)
+class _LanczosRun:
+    """Outcome of one block Lanczos run."""
+
+    tail: TailAssessment    # the last checkpoint (None if none was reached)
+    krylov_dim: int
+    dropped: int            # directions dropped below rounding and refilled at random
+    status: LanczosStatus
 
 
 def _norm_bound(op, arr, n, rng):
@@ -80,7 +133,7 @@ def _normalize_block(z, floor, p_op, pa):
     r = np.zeros((b, b))
     if kk:
         w = uq @ uu[:, :kk]
-        pw = apply(p_op, pa, w)
+        pw = apply_operator(p_op, pa, w)
         g = w.T @ pw
         lam, ug = scipy.linalg.eigh(0.5 * (g + g.T))
         inv = 1.0 / np.sqrt(lam)
@@ -216,7 +269,7 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     --------
     >>> import numpy as np
     >>> from arealaw import von_neumann_entropy, entropy_error_bound
-    >>> from arealaw.spectrum._restricted import restricted_spectrum
+    >>> from arealaw import restricted_spectrum
     >>> nu = np.array([1.5, 0.9, 0.6] + [0.5] * 37)
     >>> spec = restricted_spectrum(np.diag(nu), np.diag(nu), entropy_tol=1e-12)
     >>> len(spec), bool(entropy_error_bound(spec) < 1e-9)
@@ -261,38 +314,44 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     else:
         trace_err = trace_err + n * block_err
 
+    ops = _Operators(xa=xa, x_op=x_op, pa=pa, p_op=p_op, n=n, trace_t=trace_t,
+                     trace_err=trace_err, block_err=block_err)
     attempts = []
     while True:
-        result, m, dropped_total, status = _block_lanczos(
-            xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trace_err, block_err, rng)
-        attempts.append((b, m, status))
-        if status == "done":
+        run = _block_lanczos(ops, block_size=b, max_blocks=max_blocks, threshold=tau,
+                             entropy_tol=tol, rng=rng)
+        result, status = run.tail, run.status
+        attempts.append((b, run.krylov_dim, status.value))
+        if status is LanczosStatus.DONE:
             break
-        if status == "full":
+        if status is LanczosStatus.FULL:
             return _dense_fallback(x, p, xa, pa, x_error, p_error, info, attempts)
-        if status == "inconsistent" and 2 * b <= max(n // 2, 1) and maxiter is None:
+        if status is LanczosStatus.INCONSISTENT and 2 * b <= max(n // 2, 1) and maxiter is None:
             # the deficit says modes above the threshold were missed (a multiplicity larger
             # than the block, or an unlucky start): restart with a wider block
             b *= 2
             max_blocks = max(1, -(-n // b))
             continue
-        got = f"{result['bound']:.3g}" if result and result["valid"] else "not yet valid"
+        reached = result.bound if result is not None and result.valid else math.inf
+        got = f"{reached:.3g}" if math.isfinite(reached) else "not yet valid"
         why = ("the trace deficit shows missed modes above the threshold" if
-               status == "inconsistent" else f"{max_blocks} Lanczos blocks of {b} were not enough")
+               status is LanczosStatus.INCONSISTENT
+               else f"{max_blocks} Lanczos blocks of {b} were not enough")
         raise ConvergenceError(
             f"restricted spectrum did not converge ({why}): tail bound on the entropy reached "
-            f"{got} (requested {tol:g}); raise maxiter or entropy_tol")
-    k = result["k"]
-    t_kept = np.asarray(result["t"])
-    t_err = np.full(k, result["rho"] + block_err)
+            f"{got} (requested {tol:g}); raise maxiter or entropy_tol",
+            residual=reached, iterations=run.krylov_dim // b)
+    k = result.k
+    t_kept = np.asarray(result.t)
+    t_err = np.full(k, result.rho + block_err)
     neg = t_kept < 0
     t_err[neg] = np.maximum(t_err[neg], -t_kept[neg])
-    tail_sum = result["tail_sum"]
+    tail_sum = result.tail_sum
     extra_info = dict(info or {})
-    extra_info.update({"restricted": True, "krylov_dim": int(m), "block_size": b,
+    extra_info.update({"restricted": True, "krylov_dim": int(run.krylov_dim), "block_size": b,
                        "threshold": tau, "trace_t": trace_t, "trace_error": trace_err,
-                       "tail_bound": result["bound"], "modes_kept": int(k),
-                       "dropped_directions": int(dropped_total),
+                       "tail_bound": result.bound, "modes_kept": int(k),
+                       "dropped_directions": int(run.dropped),
                        "attempts": attempts})
     return SymplecticSpectrum(t=np.maximum(t_kept, 0.0), t_error=t_err, weights=np.ones(k),
                               tail=Tail(count=float(n - k), sum_t=tail_sum,
@@ -332,14 +391,13 @@ def _dense_ritz(diag_blocks, sub_blocks, full_cols, b):
     return scipy.linalg.eigvalsh(t)[::-1]
 
 
-def _block_lanczos(xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trace_err,
-                   block_err, rng):
+def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng):
     """Block Lanczos on C − ¼I in the P inner product with checkpoints every ~10 % of growth.
 
-    Returns (assessment, krylov dimension, dropped directions, status) with status 'done',
-    'inconsistent' (stalled while the trace deficit exceeds what modes below τ can hold),
-    'full' (the basis would span the region) or 'maxiter'.
+    ``ops`` holds the operators and the trace; returns a :class:`_LanczosRun`.
     """
+    xa, x_op, pa, p_op, n = ops.xa, ops.x_op, ops.pa, ops.p_op, ops.n
+    b, tau, tol = block_size, threshold, entropy_tol
     cap_cols = min(n + b, max_blocks * b + b)
     require_memory(2 * 8.0 * n * cap_cols, f"a restricted spectrum with up to {cap_cols} "
                    f"Lanczos vectors of {n} sites", "use a smaller region or a larger tol")
@@ -363,8 +421,8 @@ def _block_lanczos(xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trac
         s = j * b
         if m + b > n:
             # the Krylov space is about to fill the whole region: the dense form is cheaper
-            return result, m, dropped_total, "full"
-        zq = apply(x_op, xa, w_all[:, s:m])       # C q_j = X (P q_j)
+            return _LanczosRun(result, m, dropped_total, LanczosStatus.FULL)
+        zq = apply_operator(x_op, xa, w_all[:, s:m])       # C q_j = X (P q_j)
         zq -= 0.25 * q_all[:, s:m]                  # shift: T − ¼I has the t as eigenvalues
         qn, pqn, h, r, dropped = _orthonormalize_block(zq, q_all[:, :m], w_all[:, :m], scale,
                                                        rng, p_op, pa)
@@ -384,26 +442,27 @@ def _block_lanczos(xa, x_op, pa, p_op, n, b, max_blocks, tau, tol, trace_t, trac
         theta = (_dense_ritz(diag_blocks, sub_blocks, full_cols, b) if full_cols else
                  _band_ritz(diag_blocks, sub_blocks, b))
         scale = max(scale, abs(float(theta[0])) + 0.25)
-        result = _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband)
-        history.append((m, result["k"], result["deficit"]))
-        if not result["valid"]:
+        result = _assess(theta, tau, n, m, ops, scale, offband)
+        history.append((m, result.k, result.deficit))
+        if not result.valid:
             continue
         # done when the bound meets tol, or when the unconverged/omitted part is small beside
         # what rounding and block errors already cost (more vectors could not lower the bound)
-        if result["bound"] <= tol or (result["consistent"] and (
-                result["deficit"] <= 0.01 * result["floor"] or _stagnated(history, 1))):
-            return result, m, dropped_total, "done"
+        if result.bound <= tol or (result.consistent and (
+                result.deficit <= 0.01 * result.floor or _stagnated(history, 1))):
+            return _LanczosRun(result, m, dropped_total, LanczosStatus.DONE)
         if _stagnated(history, 3):
-            return result, m, dropped_total, "inconsistent"
-    return result, m, dropped_total, "maxiter"
+            return _LanczosRun(result, m, dropped_total, LanczosStatus.INCONSISTENT)
+    return _LanczosRun(result, m, dropped_total, LanczosStatus.MAXITER)
 
 
-def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
+def _assess(theta, tau, n, m, ops, scale, offband):
     """Kept modes (top Ritz values ≥ τ), the certified tail total and its entropy bound.
 
     Among the admissible k (tail mean below the smallest kept t, where the concavity bound
     holds) the one with the smallest bound is taken.
     """
+    trace_t, trace_err, block_err = ops.trace_t, ops.trace_err, ops.block_err
     k_tau = min(int(np.count_nonzero(theta >= tau)), n)
     # rounding of the Ritz values: ‖T − exact compression‖ from orthogonality loss and the
     # dropped off-band coefficients
@@ -421,8 +480,8 @@ def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
     uncertain = np.maximum(deficit, 0.0) + trace_err + ks * rho
     admissible = (count == 0) | (uncertain <= smallest * np.maximum(count, 1))
     if not admissible.any():
-        return {"k": 0, "t": theta[:0], "rho": rho, "tail_sum": float(tail_sum[0]),
-                "bound": math.inf, "valid": False, "consistent": False}
+        return TailAssessment(k=0, t=theta[:0], rho=rho, tail_sum=float(tail_sum[0]),
+                              bound=math.inf, valid=False)
     bounds = np.where(admissible & (count > 0) & (tail_sum > 0),
                       count * mode_entropy(mean), 0.0)
     bounds = np.where(admissible, bounds, np.inf)
@@ -430,10 +489,10 @@ def _assess(theta, tau, n, m, trace_t, trace_err, block_err, scale, offband):
     k = k_tau - k                                   # the largest k among equal bounds
     # if every mode above τ were found, the deficit could hold only modes below τ
     consistent = deficit[k_tau] <= count[k_tau] * tau + trace_err + k_tau * rho
-    return {"k": k, "t": theta[:k], "rho": rho, "tail_sum": float(tail_sum[k]),
-            "bound": float(bounds[k]), "valid": True, "consistent": bool(consistent),
-            "deficit": float(max(deficit[k], 0.0)),
-            "floor": float(tail_sum[k] - max(deficit[k], 0.0))}
+    return TailAssessment(k=k, t=theta[:k], rho=rho, tail_sum=float(tail_sum[k]),
+                          bound=float(bounds[k]), valid=True, consistent=bool(consistent),
+                          deficit=float(max(deficit[k], 0.0)),
+                          floor=float(tail_sum[k] - max(deficit[k], 0.0)))
 
 
 def _stagnated(history, checkpoints):

@@ -8,11 +8,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import scipy.linalg
-import scipy.linalg.blas
 
 from .._numerics import EPS
 from ._bounds import correlator_terms
-from ..correlators._base import trace_rounding
+from ..correlators import trace_rounding
+from ._modes import symplectic_form
 
 __all__ = ["SymplecticSpectrum", "Tail", "combine_spectra", "symplectic_spectrum"]
 
@@ -147,15 +147,7 @@ def symplectic_spectrum(x, p, *, x_error=0.0, p_error=0.0, x_dominant=None, p_do
         raise ValueError("the region is empty; a symplectic spectrum needs at least one site")
     xs = 0.5 * (x + x.T)
     ps = 0.5 * (p + p.T)
-    try:
-        chol = scipy.linalg.cholesky(xs, lower=True)
-    except np.linalg.LinAlgError:
-        raise ValueError("X_A is not positive definite: these blocks are not the correlators of "
-                         "a physical Gaussian state (check V and M)") from None
-    # W = Lᵀ P_A L by two triangular products (half the flops of two general ones)
-    w = scipy.linalg.blas.dtrmm(1.0, chol, ps, side=1, lower=1)
-    w = scipy.linalg.blas.dtrmm(1.0, chol, w, side=0, lower=1, trans_a=1)
-    w = 0.5 * (w + w.T)
+    chol, w = symplectic_form(xs, ps)
     w[np.diag_indices(n)] -= 0.25
     # forming W: each entry's rounding is at most a few ε·(|L|ᵀ|P||L|)_ij (√n model for the
     # accumulated sums); the largest row sum of that non-negative matrix bounds its norm
@@ -196,15 +188,7 @@ def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0, x_dominant=None, p_domin
     n = x.shape[0]
     xs = 0.5 * (x + x.T)
     ps = 0.5 * (p + p.T)
-    try:
-        chol = scipy.linalg.cholesky(xs, lower=True)
-    except np.linalg.LinAlgError:
-        raise ValueError("X_A is not positive definite: these blocks are not the correlators of "
-                         "a physical Gaussian state (check V and M)") from None
-    # W = Lᵀ P L by two triangular products (half the flops of two general ones)
-    w = scipy.linalg.blas.dtrmm(1.0, chol, ps, side=1, lower=1)
-    w = scipy.linalg.blas.dtrmm(1.0, chol, w, side=0, lower=1, trans_a=1)
-    w = 0.5 * (w + w.T)
+    chol, w = symplectic_form(xs, ps)
     w[np.diag_indices(n)] -= 0.25
     abs_l = np.abs(chol)
     form = 2 * np.sqrt(n) * EPS * float(np.max(abs_l.T @ (np.abs(ps) @ abs_l.sum(axis=1))))

@@ -16,15 +16,20 @@ import io
 from pathlib import Path
 
 import numpy as np
-from matplotlib.figure import Figure
 
-__all__ = ["FORMATS", "decay_figure", "energies_figure", "entangled_modes", "figure_png",
-           "mode_figure", "region_figure", "save_figure", "scaling_figure"]
+__all__ = ["FORMATS", "decay_figure", "energies_figure", "figure_png", "mode_figure",
+           "region_figure", "save_figure", "scaling_figure"]
 
 #: File formats a figure may be written in.
 FORMATS = ("png", "svg", "pdf")
 #: Sites of margin around a region in cropped slices.
 MARGIN = 3
+
+
+def _figure(**kwargs):
+    # matplotlib is imported on first use: ``import arealaw`` must stay light
+    from matplotlib.figure import Figure
+    return Figure(**kwargs)
 
 
 def figure_png(fig, path=None, *, dpi=110):
@@ -44,7 +49,7 @@ def save_figure(fig, stem=None, formats=("png",), *, dpi=110):
 
     Examples
     --------
-    >>> fig = Figure()
+    >>> fig = _figure()
     >>> _ = fig.subplots().plot([0, 1], [1, 0])
     >>> png, paths = save_figure(fig)
     >>> png[:4], paths
@@ -90,7 +95,7 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     >>> len(fig.axes)
     2
     """
-    fig = Figure(figsize=(6.4, 6.0), layout="constrained")
+    fig = _figure(figsize=(6.4, 6.0), layout="constrained")
     ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
     r = fit.sizes
     grid = np.linspace(r.min(), r.max(), 200)
@@ -129,7 +134,7 @@ def decay_figure(fit, *, title=""):
     >>> len(decay_figure(fit_decay(r, 0.2 * r**-3.0)).axes)
     2
     """
-    fig = Figure(figsize=(6.4, 6.0), layout="constrained")
+    fig = _figure(figsize=(6.4, 6.0), layout="constrained")
     ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
     r = fit.sizes
     grid = np.geomspace(r.min(), r.max(), 200)
@@ -152,7 +157,7 @@ def decay_figure(fit, *, title=""):
 
 def energies_figure(energies, *, title=""):
     """Entanglement energies ε_k (ν = ½ coth(ε/2)) against their index k."""
-    fig = Figure(figsize=(5.6, 3.6), layout="constrained")
+    fig = _figure(figsize=(5.6, 3.6), layout="constrained")
     ax = fig.subplots()
     e = np.array([np.inf if isinstance(v, str) or v is None else v for v in energies], float)
     k = np.arange(e.size)
@@ -200,61 +205,24 @@ def _extent(grid, offset):
     return (c0 - 0.5, c0 + grid.shape[1] - 0.5, r0 - 0.5, r0 + grid.shape[0] - 0.5)
 
 
-def entangled_modes(network, region, *, count=2, method="auto", tol=1e-8):
-    """Site profiles u_k of the ``count`` most entangled modes of ``region`` (largest ν).
-
-    With X_A = L Lᵀ and Lᵀ P_A L w = ν² w, u = L w is the mode's profile (an eigenvector of
-    X_A P_A, unit norm).  Returns (nu, u of shape (count, region.size)); needs a method that
-    gives the region's blocks.
-
-    Examples
-    --------
-    >>> from arealaw import hypercubic, box
-    >>> net = hypercubic((10, 10), mass=0.2)
-    >>> nu, amp = entangled_modes(net, box(net, [4, 4]), count=1)
-    >>> bool(nu[0] > 0.5), amp.shape
-    (True, (1, 16))
-    """
-    from threadpoolctl import threadpool_limits
-
-    with threadpool_limits(limits=1):  # threaded BLAS only loses time on small shared machines
-        return _entangled_modes(network, region, count, method, tol)
-
-
-def _entangled_modes(network, region, count, method, tol):
-    import scipy.linalg
-
-    from ..methods._registry import choose_method
-    choice = choose_method(network, [region], method, tol=tol)
-    b = choice.method.blocks(network, region.indices, tol=tol)
-    chol = scipy.linalg.cholesky(0.5 * (b.x + b.x.T), lower=True)
-    w = chol.T @ b.p @ chol
-    n = w.shape[0]
-    count = min(int(count), n)
-    # only the largest eigenpairs: a fraction of the full eigendecomposition's work
-    nu2, vec = scipy.linalg.eigh(0.5 * (w + w.T), subset_by_index=[n - count, n - 1])
-    top = np.argsort(nu2)[::-1]
-    u = chol @ vec[:, top]
-    u /= np.linalg.norm(u, axis=0)
-    return np.sqrt(np.maximum(nu2[top], 0.0)), u.T
-
-
-def mode_figure(network, region, *, count=2, title="", margin=MARGIN):
-    """The ``count`` most entangled modes' profiles (see :func:`entangled_modes`): line plots
-    against the site on a chain, else images of |u_k| on a slice through the region's centre
-    cropped to the region plus ``margin`` sites, each with a labelled colour bar.
+def mode_figure(network, region, nu, u, *, title="", margin=MARGIN):
+    """Profiles of entangled modes of ``region`` (``nu``, ``u`` as :func:`arealaw.region_modes`
+    returns them): line plots against the site on a chain, else images of |u_k| on a slice
+    through the region's centre cropped to the region plus ``margin`` sites, each with a
+    labelled colour bar.
 
     Examples
     --------
-    >>> from arealaw import hypercubic, box
+    >>> from arealaw import hypercubic, box, region_modes
     >>> net = hypercubic(30, mass=0.2)
-    >>> fig = mode_figure(net, box(net, 8, origin=4))
+    >>> reg = box(net, 8, origin=4)
+    >>> fig = mode_figure(net, reg, *region_modes(net, reg, count=2))
     >>> [ax.get_xlabel() for ax in fig.axes]
     ['site (lattice units)']
     """
-    nu, u = entangled_modes(network, region, count=count)
+    nu, u = np.atleast_1d(nu), np.atleast_2d(u)
     if network.ndim == 1:
-        fig = Figure(figsize=(6.4, 3.8), layout="constrained")
+        fig = _figure(figsize=(6.4, 3.8), layout="constrained")
         ax = fig.subplots()
         x = np.asarray(network.coords(region.indices))[:, 0]
         for k in range(len(nu)):
@@ -267,7 +235,7 @@ def mode_figure(network, region, *, count=2, title="", margin=MARGIN):
         ax.set_title(title or f"most entangled modes of {region.description}", fontsize=9)
         return fig
     amp = np.abs(u)
-    fig = Figure(figsize=(4.6 * len(nu), 4.2), layout="constrained")
+    fig = _figure(figsize=(4.6 * len(nu), 4.2), layout="constrained")
     axes = np.atleast_1d(fig.subplots(1, len(nu)))
     for k, ax in enumerate(axes):
         grid, where, offset = _slice(network, region, amp[k], margin=margin)
@@ -299,7 +267,7 @@ def region_figure(network, region, *, region_b=None, title="", margin=MARGIN):
     colours = ["#f4f4f4", "#1f77b4", "#d62728"]
     grid, where, offset = _slice(network, region, 1.0,
                                  None if region_b is None else (region_b, 2.0), margin=margin)
-    fig = Figure(figsize=(5.0, 4.4), layout="constrained")
+    fig = _figure(figsize=(5.0, 4.4), layout="constrained")
     ax = fig.subplots()
     ax.imshow(grid, origin="lower", cmap=ListedColormap(colours), vmin=-0.5, vmax=2.5,
               interpolation="nearest", extent=_extent(grid, offset))

@@ -15,6 +15,7 @@ import json
 import math
 from pathlib import Path
 
+from .._entropy import region_modes
 from ..workflow._decay import fit_decay_rows
 from ..workflow._ensembles import average_realisations, split_seed
 from ..workflow._fits import fit_rows
@@ -297,8 +298,11 @@ def group_figures(name, rows, fit, *, measure="entropy"):
     if mrow is not None:
         def modes():
             net, reg, _ = _rebuild(mrow)
-            return None if net is None else mode_figure(
-                net, reg, title=f"most entangled modes, {mrow['family']}: {mrow['label']}")
+            if net is None:
+                return None
+            nu, u = region_modes(net, reg, count=2)
+            return mode_figure(net, reg, nu, u, title=f"most entangled modes, {mrow['family']}: "
+                                                      f"{mrow['label']}")
         out.append(("modes", "most entangled modes", modes))
     if largest.get("entanglement_energies"):
         out.append(("energies", "entanglement energies", lambda: energies_figure(
@@ -360,7 +364,7 @@ def write_report(store, path, *, title="", powers=(), endpoints=2, size="x", fig
     fit of their mutual information.  ``figures`` is a folder to write each figure into (in
     ``formats``) besides embedding it; ``progress(done, total)`` is called as groups finish.
     """
-    from .. import __version__
+    from .._version import __version__
     rows = store.rows()
     if not rows:
         raise ValueError(f"the store {str(store.path)!r} holds no results; run a scenario first "

@@ -87,12 +87,15 @@ class FitResult:
         return float(self.coefficients[self.names.index(name)])
 
     def error(self, name):
+        """Standard error of the fitted parameter ``name``."""
         return float(self.stderr[self.names.index(name)])
 
     def predict(self, sizes):
+        """The fitted law evaluated at ``sizes``."""
         return _design(np.asarray(sizes, float), self.dim, self.powers) @ self.coefficients
 
     def to_dict(self):
+        """JSON-ready dict of the fit (law, parameters, errors, residual statistics)."""
         d = {"dim": self.dim, "law": self.law, "size": self.size,
              "points": int(self.sizes.size), "chi2_red": float(self.chi2_red),
              "chi2": float(self.chi2), "dof": int(self.dof), "p_value": self.p_value,

@@ -52,13 +52,11 @@ Layout::
     b = {box = [2, 2, 2], origin = ["= 1 + d", 5, 5]}
 """
 
-import hashlib
 import itertools
 import json
 import math
 import re
 import sys
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -66,12 +64,13 @@ import numpy as np
 from .._arguments import allowed_hint, did_you_mean, unknown_name
 from .._numerics import DEFAULT_TOL, check_tol
 from ..correlators import check_temperature
-from ..methods import RadialLattice, radial_lattice, shells
 from ..methods._registry import method_names
-from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS, \
-    network_from_spec, region_from_spec
-from ..spectrum._measures import normalize_order, order_label
-from ._expressions import evaluate, expression_names, is_expression
+from ..network._specs import LATTICE_KEYS, MATRIX_KEYS, REGION_KINDS, REGION_OPTIONS
+from ..spectrum._measures import normalize_order
+from ._axes import MAX_CASES, _axes, _Entry, _fill, _label, _size_axis, _sweep_values
+from ._cases import (RADIAL_REGION, Case, _jsonify, Scenario, build_network, build_region,
+                     case_hash, region_separation)
+from ._expressions import evaluate, is_expression
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -89,106 +88,13 @@ PLANNED_KEYS = {}
 SWEEP_CONTROL_KEYS = ("size", "tied", "vars")
 FAMILY_KEYS = ("name", "lattice") + SWEEP_CONTROL_KEYS + NUMERICS_KEYS
 PAIR_KEYS = ("name", "lattice", "a", "b") + SWEEP_CONTROL_KEYS + NUMERICS_KEYS
-#: The radial lattice of Srednicki's partial waves: ``radial = N`` sites, ``dim``, ``mass``;
-#: its regions are ``shells = n``.
-RADIAL_KEYS = ("radial", "dim", "mass")
-RADIAL_REGION = "shells"
 SCENARIO_LATTICE_KEYS = LATTICE_KEYS + MATRIX_KEYS + ("radial", "dim")
 SCENARIO_REGION_KEYS = REGION_KINDS + (RADIAL_REGION,)
 #: Keys holding file names: relative names resolve against the scenario file's folder.
 PATH_KEYS = ("potential", "kinetic", "sites", "mask")
-#: The key whose sweep is an ensemble of disorder realisations.
-ENSEMBLE_KEY = "seed"
-SWEEP_KEYS = ("from", "to", "step", "values")
 #: ``energies = "all"``: store every entanglement energy of each case (the report then plots
 #: spectra without recomputing them).
 ALL_ENERGIES = 2**31 - 1
-MAX_CASES = 100000
-
-
-def _version():
-    from .. import __version__
-    return __version__
-
-
-@dataclass
-class Case:
-    """One computation: a network spec, a region spec (and optionally a second region), measures.
-
-    ``key`` is the content hash over everything that determines the numbers (network and region
-    specs, measures, method options, package version); ``family``, ``label`` and ``x`` (the swept
-    value, e.g. the ball radius) only describe it.
-    """
-
-    network: dict
-    region: dict
-    region_b: dict = None
-    renyi: list = field(default_factory=list)
-    energies: int = 0
-    method: str = "auto"
-    tol: float = DEFAULT_TOL
-    temperature: float = 0.0
-    family: str = ""
-    label: str = ""
-    x: float = None
-    lattice: str = ""
-    version: str = field(default_factory=_version)
-    negativity: bool = False
-
-    @property
-    def key(self):
-        return case_hash(self)
-
-    def content(self):
-        """The dict the content hash is taken over (``temperature`` only when > 0 and
-        ``negativity`` only when set, so ground-state cases keep their keys)."""
-        out = {"network": self.network, "region": self.region, "region_b": self.region_b,
-               "renyi": [order_label(n) for n in self.renyi], "energies": self.energies,
-               "method": self.method, "tol": self.tol, "version": self.version}
-        if self.temperature:
-            out["temperature"] = float(self.temperature)
-        if self.negativity:
-            out["negativity"] = True
-        return out
-
-    def to_dict(self):
-        return {"case": self.key, "family": self.family, "label": self.label, "x": self.x,
-                "lattice": self.lattice, **self.content()}
-
-
-def case_hash(case):
-    """SHA-256 (first 16 hex digits) of the case's canonical JSON content.
-
-    Examples
-    --------
-    >>> a = Case({"shape": [8], "mass": 0.5}, {"box": [4]})
-    >>> b = Case({"mass": 0.5, "shape": [8]}, {"box": [4]}, family="other name")
-    >>> case_hash(a) == case_hash(b), len(case_hash(a))
-    (True, 16)
-    """
-    text = json.dumps(case.content(), sort_keys=True, separators=(",", ":"), default=_jsonify)
-    return hashlib.sha256(text.encode()).hexdigest()[:16]
-
-
-def _jsonify(v):
-    if isinstance(v, (np.integer,)):
-        return int(v)
-    if isinstance(v, (np.floating,)):
-        return float(v)
-    if isinstance(v, float) and math.isinf(v):
-        return "inf"
-    raise TypeError(f"cannot hash {v!r}")
-
-
-@dataclass
-class Scenario:
-    """A parsed scenario: its title, output folder and expanded cases."""
-
-    title: str
-    out: str
-    cases: list
-    source: str = ""
-    text: str = ""
 
 
 class _Where:
@@ -367,121 +273,6 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
 
 
 
-def build_network(spec):
-    """The network of a case's lattice spec: a radial lattice (``radial`` key) or
-    :func:`~arealaw.network._specs.network_from_spec`.
-
-    Examples
-    --------
-    >>> build_network({"radial": 30, "dim": 3, "mass": 0.0})
-    RadialLattice(N=30, d=3, m=0, Dirichlet wall at N+1)
-    """
-    if "radial" in spec:
-        extra = sorted(set(spec) - set(RADIAL_KEYS))
-        if extra:
-            raise ValueError(f"{extra[0]!r} does not go with a radial lattice; allowed: "
-                             f"{', '.join(RADIAL_KEYS)}")
-        return radial_lattice(spec["radial"], dim=spec.get("dim", 3),
-                              mass=spec.get("mass", 0.0))
-    if "dim" in spec:
-        raise ValueError("dim belongs to the radial lattice; add radial = N (radial sites)")
-    return network_from_spec(spec)
-
-
-def build_region(network, spec):
-    """The region of a case's region spec (``shells = n`` on a radial lattice)."""
-    if RADIAL_REGION in spec:
-        extra = sorted(set(spec) - {RADIAL_REGION})
-        if extra:
-            raise ValueError(f"{extra[0]!r} does not go with shells; a radial region is "
-                             "shells = n alone")
-        n = spec[RADIAL_REGION]
-        if isinstance(n, float) and n.is_integer():
-            n = int(n)
-        return shells(network, n)
-    if isinstance(network, RadialLattice):
-        raise ValueError("a radial lattice takes the region shells = n (the first n radial "
-                         "sites)")
-    return region_from_spec(network, spec)
-
-
-def region_separation(network, region_a, region_b):
-    """(separation, gap): the distance between the centres of the two regions and the smallest
-    site-to-site distance, in the lattice's site coordinates (lattice units, no wrap-around on
-    periodic axes); (None, None) when the network has no coordinates.
-
-    Examples
-    --------
-    >>> net = network_from_spec({"shape": [40], "mass": 0.1})
-    >>> a = region_from_spec(net, {"box": [4], "origin": [2]})
-    >>> b = region_from_spec(net, {"box": [4], "origin": [12]})
-    >>> region_separation(net, a, b)
-    (10.0, 7.0)
-    """
-    from scipy.spatial import cKDTree
-    try:
-        ca = np.asarray(network.coords(region_a.indices), float)
-        cb = np.asarray(network.coords(region_b.indices), float)
-    except ValueError:
-        return None, None
-    centre = float(np.linalg.norm(ca.mean(axis=0) - cb.mean(axis=0)))
-    gap = float(cKDTree(ca).query(cb, k=1)[0].min())
-    return centre, gap
-
-
-def _sweep_values(key, val, w, header, nth):
-    unknown = sorted(set(val) - set(SWEEP_KEYS))
-    if unknown:
-        raise w.error(f"{key} = {val!r}: unknown sweep key {unknown[0]!r}; a sweep is "
-                      "{from = A, to = B, step = C} or {values = [...]}", key, header, nth)
-    if "values" in val:
-        if set(val) != {"values"} or not isinstance(val["values"], list) or not val["values"]:
-            raise w.error(f"{key} = {val!r}: values must be a non-empty list and stand alone",
-                          key, header, nth)
-        return list(val["values"])
-    if "from" not in val or "to" not in val:
-        raise w.error(f"{key} = {val!r}: a range sweep needs from and to (step optional, "
-                      "default 1)", key, header, nth)
-    a, b, s = val["from"], val["to"], val.get("step", 1)
-    if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in (a, b, s)) \
-            or s <= 0 or b < a:
-        raise w.error(f"{key} = {val!r}: from <= to and step > 0 must be numbers", key, header,
-                      nth)
-    n = int(math.floor((b - a) / s + 1e-9)) + 1
-    if n > MAX_CASES:
-        raise w.error(f"{key} = {val!r} gives {n} values; at most {MAX_CASES}", key, header, nth)
-    vals = [a + i * s for i in range(n)]
-    if all(isinstance(v, int) for v in (a, s)):
-        return [int(v) for v in vals]
-    return [round(v, 12) for v in vals]
-
-
-@dataclass
-class _Entry:
-    """One key of a family after merging its lattice table: where it goes and how it varies."""
-
-    name: str          # the name in labels, ``tied`` and expressions ("b.origin" inside a pair)
-    where: str         # "var", "region", "a", "b", "override" (family lattice key), "lattice"
-    key: str           # the key inside its spec
-    raw: object
-    values: list = None  # a sweep's values; None for a fixed value or an expression
-
-    @property
-    def is_expression(self):
-        return is_expression(self.raw) or (isinstance(self.raw, list)
-                                           and any(is_expression(v) for v in self.raw))
-
-
-def _fill(entry, names, w, header, nth):
-    """The value of an expression entry (an expression, or a list holding some)."""
-    try:
-        if isinstance(entry.raw, list):
-            return [evaluate(v, names) if is_expression(v) else v for v in entry.raw]
-        return evaluate(entry.raw, names)
-    except ValueError as exc:
-        raise w.error(f"{entry.name} = {entry.raw!r}: {exc}", entry.key, header, nth) from None
-
-
 def _entries(fam, kind, lattice_spec, w, header, nth, name):
     """The family's keys (vars, region keys or a/b, lattice overrides, lattice table)."""
     region_keys = set(SCENARIO_REGION_KEYS) | {k for v in REGION_OPTIONS.values() for k in v}
@@ -529,62 +320,6 @@ def _entries(fam, kind, lattice_spec, w, header, nth, name):
         entries.append(_Entry("temperature", "state", "temperature", fam["temperature"]))
     entries += [_Entry(k, "lattice", k, v) for k, v in lattice_spec.items() if k not in fam]
     return entries
-
-
-def _axes(entries, tied, w, header, nth):
-    """Groups of entries swept together: each tied group is one axis, every other sweep its
-    own; the ensemble key comes last."""
-    swept = {e.name: e for e in entries if e.values is not None}
-    if isinstance(tied, list) and tied and all(isinstance(t, str) for t in tied):
-        tied = [tied]
-    if not isinstance(tied, list) or not all(isinstance(g, list) and len(g) >= 2
-                                             and all(isinstance(n, str) for n in g)
-                                             for g in tied):
-        raise w.error(f"tied = {tied!r} must list two or more swept keys, e.g. tied = "
-                      "[\"shape\", \"box\"], or a list of such lists", "tied", header, nth)
-    group_of = {}
-    for g in tied:
-        for n in g:
-            if n not in swept:
-                raise w.error(f"tied: {n!r} is not swept in this family; swept: "
-                              f"{', '.join(swept) or 'nothing'}", "tied", header, nth)
-            if n == ENSEMBLE_KEY:
-                raise w.error("tied: seed sweeps an ensemble of disorder realisations and "
-                              "cannot be tied to another key", "tied", header, nth)
-            if n in group_of:
-                raise w.error(f"tied: {n!r} appears in two groups", "tied", header, nth)
-            group_of[n] = tuple(g)
-        lengths = {n: len(swept[n].values) for n in g}
-        if len(set(lengths.values())) != 1:
-            raise w.error("tied keys must sweep the same number of values; got "
-                          + ", ".join(f"{n}: {k}" for n, k in lengths.items()), "tied", header,
-                          nth)
-    axes, seen = [], set()
-    for e in entries:
-        if e.values is None or e.name in seen:
-            continue
-        group = group_of.get(e.name, (e.name,))
-        seen.update(group)
-        axes.append([swept[n] for n in group])
-    axes.sort(key=lambda axis: axis[0].name == ENSEMBLE_KEY)
-    return axes
-
-
-def _size_axis(axes, size, kind):
-    """Index of the axis that holds the fit's size variable (None: no such axis)."""
-    if size is not None:
-        used = expression_names("=" + size.lstrip().lstrip("="))
-        geometric = kind == "pair" and bool(used & {"separation", "gap"})
-        return [i for i, axis in enumerate(axes)
-                if any(e.name in used or geometric and e.where in ("var", "a", "b")
-                       for e in axis)]
-    if kind == "pair":
-        return [i for i, axis in enumerate(axes) if any(e.where in ("var", "a", "b")
-                                                        for e in axis)]
-    for i, axis in enumerate(axes):
-        if any(e.where in ("var", "region") for e in axis) and axis[0].name != ENSEMBLE_KEY:
-            return [i]
-    return []
 
 
 def _resolve_paths(spec, base):
@@ -692,20 +427,6 @@ def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
                           label=label, x=x, lattice=lattice,
                           negativity=bool(num["negativity"])))
     return cases
-
-
-def _label(axes, x_axes, point, kind):
-    """``size keys | other keys, seed=K``: the part after `` | `` names the fit group."""
-    def show(axis):
-        return [f"{e.name}={_short(point[e.name])}" for e in axis]
-    first = [s for i in x_axes for s in show(axes[i])]
-    rest = [s for i, axis in enumerate(axes) if i not in x_axes for s in show(axis)]
-    label = ", ".join(first) or ("A:B" if kind == "pair" else "single")
-    return label + (" | " + ", ".join(rest) if rest else "")
-
-
-def _short(v):
-    return json.dumps(v, separators=(",", ":")) if isinstance(v, (list, dict)) else str(v)
 
 
 def _network_checked(spec, entries, cache, w, header, nth, lat_header):

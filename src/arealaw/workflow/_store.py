@@ -80,7 +80,7 @@ _SQLITE_HEADER = b"SQLite format 3\x00"
 
 
 def _version():
-    from .. import __version__
+    from .._version import __version__
     return __version__
 
 
@@ -289,11 +289,13 @@ class ResultStore:
         return sorted(r[0] for r in self._conn.execute("SELECT DISTINCT version FROM cases"))
 
     def keys(self):
+        """Case keys of every stored result."""
         if not self._has_cases():
             return set()
         return {r[0] for r in self._conn.execute("SELECT case_key FROM cases")}
 
     def has(self, key):
+        """True when a result for case ``key`` is stored."""
         if not self._has_cases():
             return False
         return self._conn.execute("SELECT 1 FROM cases WHERE case_key = ?",
@@ -329,12 +331,6 @@ class ResultStore:
                    "LEFT JOIN scenarios s ON s.run_id = r.run_id ORDER BY r.started")
         return [dict(zip(("run_id", "title", "source", "started", "text"), r))
                 for r in self._conn.execute(sql)]
-
-    def families(self):
-        if not self._has_cases():
-            return []
-        return [r[0] for r in self._conn.execute(
-            "SELECT family FROM cases GROUP BY family ORDER BY MIN(rowid)")]
 
     # -- writing ------------------------------------------------------------------------------
     def _writable(self):

@@ -16,7 +16,7 @@ from threadpoolctl import threadpool_limits
 
 from .._entropy import entropy
 from ..network._regions import complement, cut_couplings
-from ._scenario import build_network, build_region
+from ._cases import build_network, build_region
 from ._workers import WAIT, WorkerPool, usable_cores
 
 __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]

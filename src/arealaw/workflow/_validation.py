@@ -18,10 +18,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-try:  # the sparse backend's contour rule (Hale, Higham & Trefethen 2008)
-    from ..correlators.sparse._contour import inverse_sqrt_rule
-except ImportError:  # pragma: no cover - a tree without the sparse backend
-    inverse_sqrt_rule = None
+from .._entropy import entropy, radial_entropy
+from ..correlators.sparse import inverse_sqrt_rule
+from ..network import OscillatorNetwork, box, from_sites, half_space, hypercubic
 
 __all__ = ["KINDS", "REFERENCES", "Reference", "ValidationRow", "references", "run_validation"]
 
@@ -93,31 +92,23 @@ class ValidationRow:
 
 # -- the computations (public API only) -------------------------------------------------------
 
-def _arealaw():
-    import arealaw  # the table sits above the whole API
-    return arealaw
-
-
 def _two_oscillators(k0, k1, what):
-    al = _arealaw()
-    net = al.OscillatorNetwork(np.array([[k0 + k1, -k1], [-k1, k0 + k1]]))
-    res = al.entropy(net, al.from_sites(net, [0]), renyi=[2], method="dense")
+    net = OscillatorNetwork(np.array([[k0 + k1, -k1], [-k1, k0 + k1]]))
+    res = entropy(net, from_sites(net, [0]), renyi=[2], method="dense")
     if what == "nu":
         return float(res.spectrum.nu[0])
     return res.renyi["2"] if what == "S2" else res.entropy
 
 
 def _dirichlet_half(n, mass=0.0, what="S"):
-    al = _arealaw()
-    net = al.hypercubic(n, mass=mass, boundary="dirichlet")
-    res = al.entropy(net, al.box(net, n // 2, origin=0), renyi=[2], method="dense")
+    net = hypercubic(n, mass=mass, boundary="dirichlet")
+    res = entropy(net, box(net, n // 2, origin=0), renyi=[2], method="dense")
     return res.renyi["2"] if what == "S2" else res.entropy
 
 
 def _infinite_half_chain(mass):
-    al = _arealaw()
-    net = al.hypercubic(("inf",), mass=mass)
-    return al.entropy(net, al.half_space(net, 0, 0)).entropy
+    net = hypercubic(("inf",), mass=mass)
+    return entropy(net, half_space(net, 0, 0)).entropy
 
 
 def _slope(n1, n2, what="S"):
@@ -125,57 +116,50 @@ def _slope(n1, n2, what="S"):
 
 
 def _interval_in_chain(mass, length, n):
-    al = _arealaw()
-    net = al.hypercubic(n, mass=mass, boundary="dirichlet")
-    return al.entropy(net, al.box(net, length), method="dense").entropy
+    net = hypercubic(n, mass=mass, boundary="dirichlet")
+    return entropy(net, box(net, length), method="dense").entropy
 
 
 def _ball_kappa(n_radial, n1, n2):
-    al = _arealaw()
-    s1 = al.radial_entropy(n_radial, n1).entropy
-    s2 = al.radial_entropy(n_radial, n2).entropy
+    s1 = radial_entropy(n_radial, n1).entropy
+    s2 = radial_entropy(n_radial, n2).entropy
     return (s2 - s1) / ((n2 + 0.5) ** 2 - (n1 + 0.5) ** 2)
 
 
 def _ball_fit(n_radial, ns):
     """κ from a least-squares fit S = κR² + c ln R + d over several radii."""
-    al = _arealaw()
     r = np.array([n + 0.5 for n in ns])
-    s = np.array([al.radial_entropy(n_radial, n).entropy for n in ns])
+    s = np.array([radial_entropy(n_radial, n).entropy for n in ns])
     coef, *_ = np.linalg.lstsq(np.stack([r**2, np.log(r), np.ones_like(r)], 1), s, rcond=None)
     return float(coef[0])
 
 
 def _sphere_log_coefficient(n_radial, ns):
     """c from S = κR² + c ln R + d + e/R² at fixed N (finite-N corrections ∝ R²/N² go into κ)."""
-    al = _arealaw()
     r = np.array([n + 0.5 for n in ns])
-    s = np.array([al.radial_entropy(n_radial, n, rtol=1e-9).entropy for n in ns])
+    s = np.array([radial_entropy(n_radial, n, rtol=1e-9).entropy for n in ns])
     basis = np.stack([r**2, np.log(r), np.ones_like(r), r**-2.0], 1)
     coef, *_ = np.linalg.lstsq(basis, s, rcond=None)
     return float(coef[1])
 
 
 def _reduction_vs_dense(shape, at, mass):
-    al = _arealaw()
-    net = al.hypercubic(shape, mass=mass, boundary=("dirichlet",) + ("periodic",) * (len(shape) - 1))
-    reg = al.half_space(net, 0, at)
-    return al.entropy(net, reg, method="transverse").entropy, al.entropy(net, reg,
+    net = hypercubic(shape, mass=mass, boundary=("dirichlet",) + ("periodic",) * (len(shape) - 1))
+    reg = half_space(net, 0, at)
+    return entropy(net, reg, method="transverse").entropy, entropy(net, reg,
                                                                          method="dense").entropy
 
 
 def _per_area_vs_ring(n, ring, mass):
-    al = _arealaw()
-    inf = al.hypercubic((n, "inf"), mass=mass, boundary=("dirichlet", "periodic"))
-    fin = al.hypercubic((n, ring), mass=mass, boundary=("dirichlet", "periodic"))
-    return (al.entropy(inf, al.half_space(inf, 0, n // 2)).entropy_per_area,
-            al.entropy(fin, al.half_space(fin, 0, n // 2), method="transverse").entropy / ring)
+    inf = hypercubic((n, "inf"), mass=mass, boundary=("dirichlet", "periodic"))
+    fin = hypercubic((n, ring), mass=mass, boundary=("dirichlet", "periodic"))
+    return (entropy(inf, half_space(inf, 0, n // 2)).entropy_per_area,
+            entropy(fin, half_space(fin, 0, n // 2), method="transverse").entropy / ring)
 
 
 def _half_space_per_area(dim, mass):
-    al = _arealaw()
-    net = al.hypercubic(("inf",) * dim, mass=mass)
-    return al.entropy(net, al.half_space(net, 0, 0)).entropy_per_area
+    net = hypercubic(("inf",) * dim, mass=mass)
+    return entropy(net, half_space(net, 0, 0)).entropy_per_area
 
 
 def _mass_slope_2d(m):
@@ -275,12 +259,11 @@ def _table():
                   0.0242619559541, 1e-9, "computed (transverse reduction; regression value)",
                   relative=True),
     ]
-    if inverse_sqrt_rule is not None:
-        hht = "Hale, Higham & Trefethen 2008, SIAM J. Numer. Anal. 46 2505 (node-count estimate)"
-        for kappa, tol, nodes in ((1e4, 1e-8, 13), (1e4, 1e-12, 18), (1e8, 1e-8, 22),
-                                  (1e8, 1e-12, 32)):
-            refs.append(Reference(f"HHT nodes for x^-1/2, kappa={kappa:g}, tol={tol:g}",
-                                  lambda k=kappa, t=tol: _hht_nodes(k, t), nodes, 1.0, hht))
+    hht = "Hale, Higham & Trefethen 2008, SIAM J. Numer. Anal. 46 2505 (node-count estimate)"
+    for kappa, tol, nodes in ((1e4, 1e-8, 13), (1e4, 1e-12, 18), (1e8, 1e-8, 22),
+                              (1e8, 1e-12, 32)):
+        refs.append(Reference(f"HHT nodes for x^-1/2, kappa={kappa:g}, tol={tol:g}",
+                              lambda k=kappa, t=tol: _hht_nodes(k, t), nodes, 1.0, hht))
     return tuple(refs)
 
 

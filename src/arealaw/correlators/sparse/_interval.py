@@ -5,6 +5,7 @@ import warnings
 
 import numpy as np
 
+from ..._errors import ZERO_MODE
 from ..._numerics import EPS
 import pyamg
 import scipy.linalg
@@ -27,8 +28,7 @@ def gershgorin(a):
 def _not_pd(lam):
     return ValueError(
         f"potential V is not positive definite: the smallest eigenvalue of the pencil (V, M) is "
-        f"about {lam:.3g}; a zero mode (e.g. a massless periodic or open lattice) has no "
-        "normalisable ground state — add a mass or a Dirichlet wall")
+        f"about {lam:.3g}; {ZERO_MODE}")
 
 
 def _lowest(a, b, rng):

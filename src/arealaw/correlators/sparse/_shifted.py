@@ -90,7 +90,8 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
                 worst = float(np.max(resid_out / np.maximum(bnorm, 1e-300)[None, :]))
                 raise ConvergenceError(
                     f"multishift CG did not converge in maxiter={maxiter} iterations: relative "
-                    f"residual {worst:.3g} (target {float(rtol.min()):.3g}); raise maxiter or tol")
+                    f"residual {worst:.3g} (target {float(rtol.min()):.3g}); raise maxiter or tol",
+                    residual=worst, iterations=it)
             keep_cols = ~fin
             if not keep_cols.any():
                 return z_out, resid_out, it
@@ -171,7 +172,8 @@ def amg_shifted_cg(a, b_mat, shifts, rhs_of_shift, keep, *, rtol, maxiter):
                 raise ConvergenceError(
                     f"AMG-preconditioned CG did not converge in maxiter={maxiter} iterations at "
                     f"shift {sigma:.3g}: relative residual {res / fn:.3g} (target "
-                    f"{float(rtol[j]):.3g}); raise maxiter or tol")
+                    f"{float(rtol[j]):.3g}); raise maxiter or tol", residual=res / fn,
+                    iterations=count[0])
             z_out[j, :, col] = x[keep]
             resid_out[j, col] = res
         report("shifted solves", j + 1, shifts.size)

@@ -30,6 +30,7 @@ import math
 import os
 import warnings
 import weakref
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.linalg
@@ -37,7 +38,7 @@ import scipy.sparse as sp
 from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
-from ..._errors import UnsupportedMethodError
+from ..._errors import ZERO_MODE, UnsupportedMethodError
 from ..._costs import cost
 from ..._numerics import EPS, available_bytes, fits_in_memory, format_bytes, require_memory
 from .._base import Assessment, Blocks, CorrelatorBackend
@@ -57,6 +58,26 @@ _AMG_WORK_PER_SHIFT = cost("sparse.amg_work_per_shift")
 _MAX_THERMAL_POLES = 400
 #: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
 _BYTES_PER_ENTRY = 48.0
+
+
+@dataclass(frozen=True)
+class _Pencil:
+    """What :meth:`SparseBackend._prepare` learns about (V, M) once per network.
+
+    With diagonal M (``diag``) the solves use A = M^{-1/2} V M^{-1/2} and ``d`` = diag(M);
+    otherwise V itself (``a``) and M (``m``).  [lo, hi] encloses the spectrum of the pencil
+    (V, M), [m_lo, m_hi] that of M (1, 1 when M is diagonal, already scaled out).
+    """
+
+    diag: bool
+    a: object
+    lo: float
+    hi: float
+    interval: dict
+    d: np.ndarray = None
+    m: object = None
+    m_lo: float = 1.0
+    m_hi: float = 1.0
 
 
 class IllConditionedWarning(UserWarning):
@@ -122,8 +143,7 @@ class SparseBackend(CorrelatorBackend):
             nnz = float(n) * (2 * d + 1)
             kappa = _uniform_kappa(network.lattice)
             if not math.isfinite(kappa):
-                return Assessment(False, "the lattice has a zero mode (no mass, no Dirichlet "
-                                         "wall)")
+                return Assessment(False, ZERO_MODE)
         else:
             v = network.potential
             if v is None:
@@ -153,7 +173,7 @@ class SparseBackend(CorrelatorBackend):
     def _kappa_guess(self, network):
         ref, cached = self._cache
         if ref() is network:
-            return cached["hi"] / cached["lo"]
+            return cached.hi / cached.lo
         lo, hi = gershgorin(network.potential)
         d = network.ndim or 3
         lo = max(lo, hi / max(network.n_sites, 2) ** (2.0 / d))
@@ -174,13 +194,12 @@ class SparseBackend(CorrelatorBackend):
             a = (s @ v @ s).tocsr()
             a = 0.5 * (a + a.T)
             lo, hi, info = pencil_interval(a)
-            prep = {"diag": True, "a": a.tocsr(), "d": d, "lo": lo, "hi": hi, "m_lo": 1.0,
-                    "m_hi": 1.0, "interval": info}
+            prep = _Pencil(diag=True, a=a.tocsr(), d=d, lo=lo, hi=hi, interval=info)
         else:
             lo, hi, info = pencil_interval(v, m)
             m_lo, m_hi, _ = pencil_interval(m)
-            prep = {"diag": False, "a": v, "m": m, "lo": lo, "hi": hi, "m_lo": m_lo,
-                    "m_hi": m_hi, "interval": info}
+            prep = _Pencil(diag=False, a=v, m=m, lo=lo, hi=hi, m_lo=m_lo, m_hi=m_hi,
+                           interval=info)
         self._cache = (weakref.ref(network), prep)
         return prep
 
@@ -201,7 +220,7 @@ class SparseBackend(CorrelatorBackend):
             raise UnsupportedMethodError("V of this lattice is too large to form; use "
                                          "method='spectral'")
         prep = self._prepare(network)
-        lo, hi = prep["lo"], prep["hi"]
+        lo, hi = prep.lo, prep.hi
         kappa = hi / lo
         if temperature > 0:
             rule = matsubara_rule(lo, hi, temperature, tol=0.25 * tol,
@@ -214,13 +233,13 @@ class SparseBackend(CorrelatorBackend):
                           f"{kappa:.3g}; using {rule.n_nodes} poles and the {engine!r} engine "
                           "(add a mass or Dirichlet walls for a faster, better-conditioned "
                           "problem)", IllConditionedWarning, stacklevel=2)
-        if prep["diag"]:
+        if prep.diag:
             core = union
         else:
             # P needs (V + σM)^{-1} on the M-neighbourhood of the sites (see _assemble_general).
-            core = np.union1d(union, prep["m"][union].indices)
+            core = np.union1d(union, prep.m[union].indices)
         y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol)
-        if prep["diag"]:
+        if prep.diag:
             x, p, x_err, p_err, hx, hp = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
         else:
             x, p, x_err, p_err, hx, hp = self._assemble_general(network, prep, union, core, y_cc,
@@ -230,7 +249,7 @@ class SparseBackend(CorrelatorBackend):
         info = {"engine": engine, "poles": rule.n_nodes, "spectral_interval": (lo, hi),
                 "temperature": temperature,
                 "condition_number": kappa, "quadrature_rel_error": rule.rel_error,
-                "interval_method": prep["interval"]["method"], **diag_info}
+                "interval_method": prep.interval["method"], **diag_info}
         square = np.array_equal(rows, cols)
         return Blocks(x[np.ix_(ri, ci)], p[np.ix_(ri, ci)], float(x_err), float(p_err), info,
                       x_dominant=hx[np.ix_(ri, ri)] if square and temperature == 0 else None,
@@ -238,11 +257,11 @@ class SparseBackend(CorrelatorBackend):
 
     def _choose_engine(self, prep, kappa, n_poles, tol):
         if self.engine != "auto":
-            if self.engine == "multishift" and not prep["diag"]:
+            if self.engine == "multishift" and not prep.diag:
                 raise ValueError("engine='multishift' needs a diagonal kinetic matrix M; use "
                                  "engine='amg' or 'auto'")
             return self.engine
-        if not prep["diag"]:
+        if not prep.diag:
             return "amg"
         return "multishift" if 0.5 * math.sqrt(kappa) < _AMG_WORK_PER_SHIFT * n_poles else "amg"
 
@@ -261,8 +280,8 @@ class SparseBackend(CorrelatorBackend):
     # -- the Schur complement on the core ------------------------------------------------------
     def _schur(self, prep, core, rule, engine, tol):
         """Σ_j ½ w_j Y_j and Σ_j ½ w_j σ_j Y_j, Y_j = [(V + σ_j M)^{-1}]_CC, with error bounds."""
-        a = prep["a"]
-        m = None if prep["diag"] else prep["m"]
+        a = prep.a
+        m = None if prep.diag else prep.m
         n = a.shape[0]
         in_core = np.zeros(n, dtype=bool)
         in_core[core] = True
@@ -279,7 +298,7 @@ class SparseBackend(CorrelatorBackend):
         inner = np.unique(coupling.indices)  # core positions next to B
         outer = rest[outer_local]
         shifts, weights = rule.shifts, rule.weights
-        lam_h = (prep["lo"] + shifts) * prep["m_lo"]  # λ_min(V + σM) ≥ (λ_lo + σ) μ_min(M)
+        lam_h = (prep.lo + shifts) * prep.m_lo  # λ_min(V + σM) ≥ (λ_lo + σ) μ_min(M)
         rtol = self._rtol(tol, rule.hi / rule.lo)
         maxiter = self._maxiter(rule.hi / rule.lo, rtol, engine)
         info = {"core_sites": int(c), "boundary_rhs": int(inner.size),
@@ -396,7 +415,7 @@ class SparseBackend(CorrelatorBackend):
     def _assemble_diag(self, prep, union, y_cc, y_sig, err, rule):
         # K^{1/2} ≈ Σ w_j K (K + σ_j)^{-1} = Σ w_j (I − σ_j (K + σ_j)^{-1}): P' = ½ K^{1/2} on the
         # core needs only the core blocks Y_j (no detour through V' X', whose bound is weaker).
-        d = prep["d"]
+        d = prep.d
         c = union.size
         p_s = err["w_sum"] * np.eye(c) - y_sig
         p_s = 0.5 * (p_s + p_s.T)
@@ -417,15 +436,15 @@ class SparseBackend(CorrelatorBackend):
 
     def _assemble_general(self, network, prep, union, core, y_cc, y_sig, err, rule):
         # P = ½ M^{1/2} K^{1/2} M^{1/2} ≈ ½ Σ w_j (M − σ_j M (V + σ_j M)^{-1} M).
-        m = prep["m"]
+        m = prep.m
         ui = np.searchsorted(core, union)
         m_uc = m[union][:, core].toarray()
         x = y_cc[np.ix_(ui, ui)]
         p = err["w_sum"] * m[union][:, union].toarray() - m_uc @ y_sig @ m_uc.T
         p = 0.5 * (p + p.T)
         m_norm = _norm2_bound(m_uc)
-        x_err = err["x_cc"] + 0.5 * rule.abs_error / prep["m_lo"]
-        p_err = (m_norm ** 2 * err["sigma"] + 0.5 * rule.x_abs_error * prep["m_hi"]
+        x_err = err["x_cc"] + 0.5 * rule.abs_error / prep.m_lo
+        p_err = (m_norm ** 2 * err["sigma"] + 0.5 * rule.x_abs_error * prep.m_hi
                  + 8 * core.size * EPS * err["w_sum"] * max(1.0, m_norm ** 2))
         rel = 1.01 * rule.rel_error
         hx = err["h_cc"][np.ix_(ui, ui)] + rel * x
@@ -458,10 +477,6 @@ def _uniform_kappa(lat):
                   for n, j, b in zip(lat.shape, lat.couplings, lat.boundaries) if b == "dirichlet")
     hi = m2 + 4 * sum(lat.couplings)
     return hi / lo if lo > 0 else math.inf
-
-
-def _spectral_norm(a):
-    return float(np.linalg.norm(a, 2)) if a.size else 0.0
 
 
 def _norm2_bound(a):

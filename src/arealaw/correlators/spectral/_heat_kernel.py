@@ -24,8 +24,8 @@ import scipy.special
 from ..._numerics import EPS
 from ..._errors import ConvergenceError
 
-__all__ = ["Axis", "KernelTables", "correlator_factors", "image_combos", "imaginary_time_weight",
-           "kernel_temperature", "lattice_axes"]
+__all__ = ["Axis", "KernelTables", "correlator_factors", "image_combos", "image_term_count",
+           "imaginary_time_weight", "kernel_temperature", "lattice_axes"]
 
 _T_MAX = 6.0            # t range of the sinh map: s = exp(±π/2·sinh 6) ≈ e^{±317}
 _H_START = 0.5          # first trapezoid step in t
@@ -236,7 +236,8 @@ class KernelTables:
             if h < _H_MIN:
                 raise ConvergenceError(
                     f"the spectral quadrature did not converge: step {h:g}, successive "
-                    f"estimates differ by {diff_x:.3g} (X) and {diff_p:.3g} (P), target {tol:g}")
+                    f"estimates differ by {diff_x:.3g} (X) and {diff_p:.3g} (P), target {tol:g}",
+                    residual=max(diff_x, diff_p), iterations=levels)
         self.vm = tx        # V^{-1/2} on the argument grid
         self.vp = tp        # V^{1/2}
         tail_x, tail_p = self._range_tails()
@@ -312,7 +313,8 @@ class KernelTables:
                 f"this lattice (integrand envelope {max(env[0], env[-1]):.3g} at its ends); the "
                 "mass is too small — increase it or use Dirichlet walls" + (
                     "; a massless thermal state in d <= 2 without walls has no finite "
-                    "correlators" if self.temperature > 0 else ""))
+                    "correlators" if self.temperature > 0 else ""),
+                residual=float(max(env[0], env[-1])))
         trimmed = np.array([float(env[~keep].sum()), float(env_p[~keep].sum())])
         abs_sum = np.array([float(env[keep].sum()), float(env_p[keep].sum())])
         s, w = s[keep], base[keep]
@@ -331,6 +333,20 @@ class KernelTables:
 def lattice_axes(lattice):
     return [Axis(n, j, b) for n, j, b in zip(lattice.shape, lattice.couplings,
                                               lattice.boundaries)]
+
+
+def image_term_count(lattice):
+    """Number of image terms of ``lattice``'s kernel, ``len(image_combos(lattice_axes(lattice)))``:
+    two per finite Dirichlet or open axis (direct and mirrored), one per periodic or infinite axis.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic
+    >>> image_term_count(hypercubic((8, 8, 8), mass=0.1, boundary=("dirichlet", "open",
+    ...                                                            "periodic")).lattice)
+    4
+    """
+    return math.prod(len(ax.terms) for ax in lattice_axes(lattice))
 
 
 def image_combos(axes):

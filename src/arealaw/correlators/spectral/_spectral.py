@@ -17,8 +17,8 @@ from ..._progress import report
 from .._base import Assessment, Blocks, CorrelatorBackend, trace_rounding
 from .._temperature import check_temperature
 from ._convolution import box_grid_points, box_operator_bytes, box_operators
-from ._heat_kernel import (KernelTables, correlator_factors, image_combos, kernel_temperature,
-                           lattice_axes)
+from ._heat_kernel import (KernelTables, correlator_factors, image_combos, image_term_count,
+                           kernel_temperature, lattice_axes)
 
 __all__ = ["SpectralBackend", "spectral_correlators", "spectral_trace"]
 
@@ -81,6 +81,7 @@ class _Gather:
                                            temperature=kernel_temperature(lat, temperature))
         self.fx, self.fp = correlator_factors(lat)
         self.entry_x, self.entry_p = tables.entry_errors(plan.n_terms, self.fx, self.fp)
+        # the entry bounds also travel in ``info`` for operators built from these blocks
         self.info = dict(tables.info, image_terms=plan.n_terms, entry_x_error=self.entry_x,
                          entry_p_error=self.entry_p, temperature=float(temperature))
 
@@ -160,7 +161,8 @@ def spectral_correlators(network, rows, cols=None, *, tol=1e-12, temperature=0.0
         x[sl] = xs
         p[sl] = ps
     norm = math.sqrt(float(n_r) * float(n_c))
-    return Blocks(x, p, norm * gather.entry_x, norm * gather.entry_p, gather.info)
+    return Blocks(x, p, norm * gather.entry_x, norm * gather.entry_p, gather.info,
+                  entry_x_error=gather.entry_x, entry_p_error=gather.entry_p)
 
 
 def spectral_trace(network, rows, *, tol=1e-12, rep_rows=None, weights=None, temperature=0.0):
@@ -283,7 +285,7 @@ def _box_cost(network, rows):
     """(bytes, seconds per vector) of the FFT box operators of a region."""
     coords = network.coords(rows)
     widths = coords.max(axis=0) - coords.min(axis=0) + 1
-    terms = 2 ** sum(b in ("dirichlet", "open") for b in network.lattice.boundaries)
+    terms = image_term_count(network.lattice)
     return box_operator_bytes(widths, terms), cost("spectral.fft_point") * box_grid_points(widths)
 
 
