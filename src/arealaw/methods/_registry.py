@@ -189,6 +189,7 @@ class BlockMethod(Method):
 
     @property
     def exact(self):
+        """True when the backend's blocks are exact to rounding (the automatic choice prefers it)."""
         return bool(getattr(self.backend, "exact", False))
 
     def assess(self, network, regions, *, tol, temperature=0.0):

@@ -40,14 +40,10 @@ __all__ = ["restricted_spectrum"]
 class LanczosStatus(str, enum.Enum):
     """How a block Lanczos run ended."""
 
-    #: the certified bound met the request, or more vectors could not lower it
-    DONE = "done"
-    #: stalled while the trace deficit exceeds what modes below the threshold can hold
-    INCONSISTENT = "inconsistent"
-    #: the Krylov basis would span the whole region (the dense form is cheaper)
-    FULL = "full"
-    #: the allowed number of blocks was used up
-    MAXITER = "maxiter"
+    DONE = "done"                  # the bound met the request, or more vectors cannot lower it
+    INCONSISTENT = "inconsistent"  # stalled while the deficit shows modes above the threshold
+    FULL = "full"                  # the basis would span the region (the dense form is cheaper)
+    MAXITER = "maxiter"            # the allowed number of blocks was used up
 
 
 @dataclass(frozen=True)
