@@ -12,11 +12,10 @@ included.  Every per-mode entropy is increasing and concave with s(0) = 0, so (w
 below the smallest kept t) the error of the kept sum is at most (n − k)·s(T/(n − k)): a
 :class:`~arealaw.Tail` with ``count = n − k`` and ``sum_t = T`` (plus rounding and block errors).
 
-Ground states only.  The method pays when almost every mode sits at ν ≈ ½ (the boundary law:
-k ∝ boundary ≪ n).  A Gibbs state at T > 0 lifts every mode (ν ≥ ½ coth(ω_max/2T) in each normal
+Ground states only: it pays when almost every mode sits at ν ≈ ½ (k ∝ boundary ≪ n).  A Gibbs state at T > 0 lifts every mode (ν ≥ ½ coth(ω_max/2T) in each normal
 mode, and the region's bulk carries extensive thermal entropy), so T/(n − k) would stay large and
-the tail bound useless: ``methods.restricted_plan`` never chooses this solver at T > 0 and the full
-dense symplectic eigenproblem is used (or refused with its memory estimate).
+the tail bound useless: ``methods.restricted_plan`` never chooses it at T > 0 (the full dense
+eigenproblem is used, or refused with its memory estimate).
 """
 
 import enum

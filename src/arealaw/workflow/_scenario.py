@@ -70,7 +70,7 @@ from ..spectrum._measures import normalize_order
 from ._axes import MAX_CASES, _axes, _Entry, _fill, _label, _size_axis, _sweep_values
 from ._cases import (RADIAL_REGION, Case, _jsonify, Scenario, build_network, build_region,
                      case_hash, region_separation)
-from ._expressions import evaluate, is_expression
+from ._expressions import evaluate
 
 if sys.version_info >= (3, 11):
     import tomllib
