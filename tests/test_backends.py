@@ -8,7 +8,8 @@ a reported bound that the dense difference exceeds is a defect).
 import numpy as np
 import pytest
 
-from arealaw import symplectic_spectrum, von_neumann_entropy, entropy_error_bound
+from arealaw import (UnsupportedMethodError, entropy_error_bound, symplectic_spectrum,
+                     von_neumann_entropy)
 from arealaw.correlators import get_backend
 
 TOL = 1e-10
@@ -17,9 +18,13 @@ TOL = 1e-10
 def test_backend_blocks_and_entropy_match_dense_within_bounds(table_case, backend):
     name, net, region = table_case
     verdict = backend.assess(net, region.size, tol=TOL)
-    if not verdict.ok:
-        pytest.skip(f"{backend.name} cannot serve {name}: {verdict.reason}")
     rows = region.indices
+    if not verdict.ok:
+        # a refusal must be honest: a reason, and blocks() refusing the same case in one line
+        assert verdict.reason, f"{backend.name} refuses {name} without a reason"
+        with pytest.raises(UnsupportedMethodError):
+            backend.blocks(net, rows, tol=TOL)
+        return
     ref = get_backend("dense").blocks(net, rows, tol=TOL)
     got = backend.blocks(net, rows, tol=TOL)
     assert got.x.shape == got.p.shape == (region.size, region.size)
