@@ -82,7 +82,7 @@ COSTS = {
         "benchmarks/bench_restricted.py (balls R = 10, 12, same run as fft_point)", "2026-12-01"),
     # sparse backend (contour quadrature, shifted CG)
     "sparse.cg_entry": CostConstant(
-        3e-10, "second per (nonzero × right-hand side × CG iteration)",
+        6e-10, "second per (nonzero × right-hand side × CG iteration)",
         f"{_BENCH} sparse-*", "2026-12-03"),
     "sparse.dense_cube": CostConstant(
         3e-9, "second per n³ of the region (blocks, boundary Schur complement)",
@@ -108,7 +108,7 @@ COSTS = {
         3e-9, "second per n_normal³ per transverse momentum (dense chain correlators)",
         f"{_BENCH} transverse-periodic", "2026-12-03"),
     "transverse.chain_overhead": CostConstant(
-        2e-4, "second per transverse momentum (finite normal axes)",
+        3e-4, "second per transverse momentum (finite normal axes)",
         f"{_BENCH} transverse-periodic", "2026-12-03"),
     "transverse.bz_point": CostConstant(
         1e-4, "second per Brillouin-zone node (infinite normal axis, Bessel kernels)",
