@@ -132,7 +132,7 @@ class ResultStore:
         self._check_file()
         self._conn = self._connect()
         try:
-            self._identify()
+            self._identify_when_free()
         except sqlite3.DatabaseError as exc:
             self.close()
             raise ValueError(f"store {str(self.path)!r} cannot be read as an arealaw result "
@@ -185,6 +185,28 @@ class ResultStore:
             # a WAL store in a read-only folder cannot create its -shm file: nobody can be
             # writing there, so reading the file as immutable is exact
             return sqlite3.connect(uri + "?immutable=1", uri=True, timeout=30.0)
+
+    def _identify_when_free(self, patience=60.0):
+        """:meth:`_identify`, retried while another run holds the lock.
+
+        SQLite answers "database is locked" at once, without waiting for the busy timeout, when
+        two connections would deadlock (both upgrading a read to a write, or changing the journal
+        mode while the other writes): concurrent runs starting on one store meet exactly that.
+        Identification and initialisation are idempotent, so retrying them is safe.
+        """
+        deadline = time.monotonic() + patience
+        pause = 0.02
+        while True:
+            try:
+                return self._identify()
+            except sqlite3.OperationalError as exc:
+                busy = "locked" in str(exc) or "busy" in str(exc)
+                if not busy or time.monotonic() > deadline:
+                    raise
+                if self._conn.in_transaction:
+                    self._conn.rollback()
+                time.sleep(pause)
+                pause = min(2 * pause, 0.5)
 
     def _tables(self):
         return {r[0] for r in self._conn.execute(
