@@ -14,7 +14,8 @@ from ._common import USER_ERRORS, ArgumentParser, HelpFormatter, fail
 __all__ = ["main"]
 
 #: Command modules, in the order they appear in ``arealaw --help``.
-COMMAND_MODULES = ("_entropy", "_sweep", "_validate")
+COMMAND_MODULES = ("_entropy", "_run", "_results", "_fit", "_plot", "_report", "_demo",
+                   "_validate")
 
 EPILOG = """examples:
   arealaw entropy --shape 20 20 --mass 0.1 --box 10 10
