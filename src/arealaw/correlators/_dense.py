@@ -5,6 +5,7 @@ import weakref
 
 import numpy as np
 import scipy.linalg
+import scipy.sparse
 
 from .._errors import ZERO_MODE, UnsupportedMethodError
 from .._costs import cost
@@ -12,7 +13,7 @@ from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
 from ._temperature import check_temperature, coth_factor
 
-__all__ = ["DenseBackend", "dense_correlators", "dominant_blocks"]
+__all__ = ["DenseBackend", "backward_error", "dense_correlators", "dominant_blocks"]
 
 
 def dense_memory_bytes(n):
@@ -85,7 +86,8 @@ def dense_correlators(network, *, temperature=0.0):
     p = 0.5 * (u * (omega * coth)) @ u.T
     # A posteriori: each computed λ_i has an exact eigenvalue within its residual ‖K u_i − λ_i u_i‖
     # (plus the loss of orthogonality); X and P errors follow from 1/√λ and √λ mode by mode.
-    resid = np.linalg.norm(k @ u - u * lam, axis=0)
+    res, res_round = _residual(network, k, u, lam)
+    resid = np.linalg.norm(res, axis=0) + res_round
     dlam = resid + np.sqrt(n) * EPS * scale * (1 + np.abs(np.diag(u.T @ u) - 1).max() / EPS)
     if np.any(dlam >= lam / 2):
         raise ValueError(f"potential V is too ill-conditioned for the dense method (condition "
@@ -98,22 +100,15 @@ def dense_correlators(network, *, temperature=0.0):
     p_err = float(np.max(0.5 * (w_hi * coth_factor(w_hi, temperature) - omega * coth))) \
         + n * EPS * omega[-1] * coth[-1]
     dominant = None
-    beta = None
-    # A posteriori backward error: the computed pairs are exact for some K + E with
-    # ‖E‖ ≤ β (residual norm, plus the loss of orthogonality and the rounding of the
-    # products above and of the residual itself, modelled as √N·ε relative to ‖K‖).  Then −β ⪯ E ⪯ β and, K ± β
-    # commuting with K and t^{∓1/2} being operator monotone, X̂ − X is dominated in Loewner
-    # order by H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√λ − √(λ−β)) Uᵀ,
-    # the wider side of each mode's interval since √ is concave):
-    # errors relative to the actual matrices, mode by mode, instead of ‖X‖-sized ones.
-    res = k @ u - u * lam
-    r_norm = min(float(np.linalg.norm(res)),
-                 math.sqrt(float(np.abs(res).sum(axis=0).max()) *
-                           float(np.abs(res).sum(axis=1).max())))
+    # A posteriori backward error (see :func:`backward_error`): the computed pairs are exact
+    # for some K + E with ‖E‖ ≤ β.  Then −β ⪯ E ⪯ β and, K ± β commuting with K and t^{∓1/2}
+    # being operator monotone, X̂ − X is dominated in Loewner order by
+    # H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√λ − √(λ−β)) Uᵀ, the wider
+    # side of each mode's interval since √ is concave): errors relative to the actual
+    # matrices, mode by mode, instead of ‖X‖-sized ones.
+    budget = backward_error(res, u, res_round, scale)
     del res
-    orth = float(np.abs(np.einsum("ij,ij->j", u, u) - 1).max())
-    # the computed residual carries its own rounding (2√N·ε·‖K‖) besides the products' (√N·ε)
-    beta = r_norm + scale * (orth + 3 * math.sqrt(n) * EPS) + m_beta
+    beta = budget["residual"] + budget["rounding"] + m_beta
     if beta < lam[0] / 2:
         # At T > 0, f(t) = coth(√t/2T)/√t = 2T Σ_n 1/(t + (2πnT)²) is operator monotone
         # decreasing and g(t) = √t coth(√t/2T) = 2T Σ_n t/(t + (2πnT)²) increasing (Matsubara
@@ -138,7 +133,78 @@ def dense_correlators(network, *, temperature=0.0):
     p = 0.5 * (p + p.T)
     return x, p, {"omega_min": float(omega[0]), "omega_max": float(omega[-1]),
                   "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature,
-                  "backward_error": beta, "dominant": dominant}
+                  "backward_error": beta, "backward_error_budget": dict(budget, kinetic=m_beta),
+                  "dominant": dominant}
+
+
+def _residual(network, k, u, lam):
+    """R = K U − U Λ and a bound on the rounding of each of its columns.
+
+    Without a kinetic matrix K = V is sparse: R costs nnz(V)·N and each entry's rounding is at
+    most γ_{w+1}·(|V||u_j| + |λ_j||u_j|)_i (w the most nonzeros in a row; Higham 2002, §3.5), so
+    a column's at most γ_{w+1}(‖|V|‖∞ + |λ_j|)·‖u_j‖ (|V| symmetric: ‖|V|‖₂ ≤ its row sums), a
+    proof.  A dense K (general M) gets the √N·ε model 2√N·ε·‖K‖ per column instead.
+    """
+    n = u.shape[0]
+    if network.kinetic is None and scipy.sparse.issparse(network.potential):
+        v = network.potential.tocsr()
+        w = int(np.diff(v.indptr).max()) if n else 0
+        res = v @ u - u * lam
+        gamma = (w + 1) * EPS / (1 - (w + 1) * EPS)
+        col_norms = np.linalg.norm(u, axis=0)
+        row_abs = float(abs(v).sum(axis=1).max())
+        return res, gamma * (row_abs + np.abs(lam)) * col_norms
+    res = k @ u - u * lam
+    scale = max(abs(lam[0]), abs(lam[-1]))
+    return res, np.full(n, 2 * math.sqrt(n) * EPS * scale)
+
+
+def backward_error(res, u, res_round, scale):
+    """Bound β on ‖E‖₂ such that the computed pairs (Λ, U) are exact for K + E, with its budget.
+
+    Lemma (proved here).  Let G = UᵀU = S² with ‖G − I‖₂ ≤ η < 1, Q = U S⁻¹ (orthogonal) and
+    R = K U − U Λ.  Then K̃ = Q Λ Qᵀ = K + E with ‖E‖₂ ≤ ‖R‖₂·c(η),
+    c(η) = √(1+η)/(1−η) + √(1+η)·(1/√(1−η) − 1)/√(1−η)  (= 1 + O(η)).
+    Proof: UᵀKU is symmetric, so A := GΛ − ΛG = RᵀU − UᵀR; with C := SΛ − ΛS (antisymmetric)
+    A = SC + CS, hence C = ∫₀^∞ e^{−tS} A e^{−tS} dt and ‖C‖ ≤ ‖A‖/(2σ_min(S)) ≤ ‖U‖‖R‖/σ_min.
+    QᵀEQ = Λ − QᵀKQ = −C S⁻¹ − S⁻¹UᵀR S⁻¹ is symmetric, so it equals its symmetric part
+    −½(CΦ − ΦC) − S⁻¹ sym(UᵀR) S⁻¹ with Φ = S⁻¹ − I; the norms give c(η).  The loss of
+    orthogonality therefore enters only through c(η), not as ‖K‖·η.
+
+    ‖R‖₂ is bounded rigorously from the computed residual R̂: the smallest of ‖R̂‖_F,
+    √(‖R̂‖₁‖R̂‖∞) and ‖R̂ᵀR̂‖_F^{1/2} (λ_max(RᵀR) ≤ ‖RᵀR‖_F; the rounding of forming R̂ᵀR̂ is at
+    most γ_N·‖R̂‖_F² in Frobenius norm, by Cauchy–Schwarz on each entry), plus the residual's own
+    rounding.  η is bounded crudely but rigorously from fl(UᵀU) (entry rounding ≤ γ_N by
+    Cauchy–Schwarz, so ≤ N·γ_N in Frobenius norm); only c(η) ≈ 1 needs it.
+
+    Models (not worst-case proofs; Higham & Mary 2019, SIAM J. Sci. Comput. 41(5), A2815, show
+    that independent roundings grow like √N·ε with high probability): the residual's rounding
+    as a matrix is taken as twice its largest column bound (iid-noise matrices have
+    ‖·‖₂ ≈ 2 × column norm; the column bounds themselves are proofs for sparse K); the rounding
+    of forming ½UDUᵀ, and the difference between U and its orthogonal polar factor Q in it
+    (both rounding-level), are taken together as an equivalent ‖E‖ of √N·ε·‖K‖.
+    """
+    n = u.shape[0]
+    gamma = n * EPS / (1 - n * EPS)
+    fro = float(np.linalg.norm(res))
+    gram = res.T @ res
+    by_gram = math.sqrt(float(np.linalg.norm(gram)) + gamma * fro ** 2)
+    del gram
+    by_sums = math.sqrt(float(np.abs(res).sum(axis=0).max()) * float(np.abs(res).sum(axis=1).max()))
+    r_norm = min(fro, by_sums, by_gram)
+    g = u.T @ u
+    g[np.diag_indices(n)] -= 1.0
+    eta = float(np.linalg.norm(g)) + n * gamma
+    del g
+    if eta >= 0.5:
+        raise ValueError(f"the eigenvectors of M^-1/2 V M^-1/2 lost orthogonality (‖UᵀU − I‖ up to "
+                         f"{eta:.3g}); the dense method cannot certify this network")
+    c = (math.sqrt(1 + eta) / (1 - eta)
+         + math.sqrt(1 + eta) * (1 / math.sqrt(1 - eta) - 1) / math.sqrt(1 - eta))
+    rounding_res = 2.0 * float(np.max(res_round))
+    return {"residual": (r_norm + rounding_res) * c, "residual_norm": r_norm,
+            "residual_rounding": rounding_res, "orthogonality": eta,
+            "rounding": float(math.sqrt(n) * EPS * scale)}
 
 
 def dominant_blocks(info, rows, cols=None):
