@@ -12,6 +12,8 @@ from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy, fr
 from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_correlators,
                                  get_backend)
 from arealaw.correlators.sparse._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
+from arealaw.correlators.sparse._kernels import (csr_block_product, direction_update,
+                                                  residual_update)
 from arealaw.correlators.sparse._shifted import amg_shifted_cg, multishift_cg
 
 
@@ -213,6 +215,31 @@ def test_shifted_solvers_match_direct_solves():
         assert_allclose(z2[j], exact, atol=1e-10)
     assert np.all(r1 <= 1e-12 * np.linalg.norm(f, axis=0) * 1.0001)
     assert np.all(r2 <= 1.5e-12 * np.linalg.norm(f, axis=0))
+
+
+@pytest.mark.parametrize("index_dtype", [np.int32, np.int64])
+def test_fused_kernels_match_numpy(index_dtype):
+    # The fused CG passes against the numpy expressions they replace (any CSR, not only SPD).
+    rng = np.random.default_rng(3)
+    a = sp.random(300, 300, density=0.03, random_state=4, format="csr") + sp.identity(300)
+    a.indices = a.indices.astype(index_dtype)
+    a.indptr = a.indptr.astype(index_dtype)
+    p, r = rng.standard_normal((2, 300, 7))
+    alpha, beta = rng.random((2, 7))
+    out, pap, rr = np.empty((300, 7)), np.empty(7), np.empty(7)
+    csr_block_product(a.indptr, a.indices, a.data, p, out, pap)
+    assert_allclose(out, a @ p, rtol=1e-13, atol=1e-13)
+    assert_allclose(pap, np.einsum("ij,ij->j", p, a @ p), rtol=1e-12)
+    r_new = r - alpha * out
+    residual_update(r, out, alpha, rr)
+    assert_allclose(r, r_new, rtol=1e-13, atol=1e-13)
+    assert_allclose(rr, (r_new ** 2).sum(axis=0), rtol=1e-12)
+    p_new = r + beta * p
+    direction_update(p, r, beta)
+    assert_allclose(p, p_new, rtol=1e-13, atol=1e-13)
+    p[5, 2] = np.nan  # a NaN must reach the caller (no finite-math assumption in the kernels)
+    csr_block_product(a.indptr, a.indices, a.data, p, out, pap)
+    assert np.isnan(pap[2]) and np.isfinite(np.delete(pap, 2)).all()
 
 
 def test_uniform_lattice_agrees_with_spectral_backend():

@@ -21,6 +21,7 @@ import scipy.sparse.linalg as spla
 
 from ..._errors import ConvergenceError
 from ..._progress import report
+from ._kernels import csr_block_product, direction_update, residual_update
 
 __all__ = ["amg_shifted_cg", "multishift_cg"]
 
@@ -64,9 +65,13 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
     target = rtol[:, None] * bnorm[None, :]
     cols = np.arange(b)
     a_seed = (a + seed * sp.identity(n, format="csr")).tocsr() if seed else a.tocsr()
+    csr = (a_seed.indptr, a_seed.indices, np.asarray(a_seed.data, dtype=float))
     r = np.array(rhs, dtype=float, order="C")
     p = r.copy()
+    ap = np.empty_like(r)
     rr = np.einsum("ij,ij->j", r, r)
+    pap = np.empty(b)
+    rr_new = np.empty(b)
     # π_k = R_k(−δ) (CG residual polynomial at −δ); shifted residual = r_k / π_k.
     pi_prev = np.ones((n_s, b))
     pi = np.ones((n_s, b))
@@ -97,14 +102,14 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
                 return z_out, resid_out, it
             cols, r, p, rr = cols[keep_cols], r[:, keep_cols], p[:, keep_cols], rr[keep_cols]
             r, p = np.ascontiguousarray(r), np.ascontiguousarray(p)
+            ap, pap, rr_new = np.empty_like(r), np.empty(cols.size), np.empty(cols.size)
             pi_prev, pi = pi_prev[:, keep_cols], pi[:, keep_cols]
             alpha_prev, beta_prev = alpha_prev[keep_cols], beta_prev[keep_cols]
             xs, ps, frozen = xs[:, :, keep_cols], ps[:, :, keep_cols], frozen[:, keep_cols]
             target = target[:, keep_cols]
         it += 1
-        ap = a_seed @ p
-        pap = np.einsum("ij,ij->j", p, ap)
-        if np.any(pap <= 0):
+        csr_block_product(*csr, p, ap, pap)  # fused kernels: the n×b passes dominate the cost
+        if not np.all(pap > 0):
             raise _not_pd("the shifted matrix")
         alpha = rr / pap
         c = alpha * beta_prev / alpha_prev
@@ -112,17 +117,14 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
         active = ~frozen
         ratio = np.where(active, pi / np.where(active, pi_next, 1.0), 0.0)  # ζ_{k+1}/ζ_k
         xs += (alpha * ratio)[:, None, :] * ps
-        np.multiply(ap, alpha, out=ap)  # in place: these n×b passes dominate the cost
-        r -= ap
-        rr_new = np.einsum("ij,ij->j", r, r)
+        residual_update(r, ap, alpha, rr_new)
         beta = rr_new / rr
         ps *= (beta * ratio ** 2)[:, None, :]
         ps += np.where(active, 1.0 / np.where(active, pi_next, 1.0), 0.0)[:, None, :] * r[keep]
-        p *= beta
-        p += r
+        direction_update(p, r, beta)
         pi_prev, pi = pi, np.where(active, pi_next, pi)
         pi_prev = np.where(active, pi_prev, 1.0)
-        alpha_prev, beta_prev, rr = alpha, beta, rr_new
+        alpha_prev, beta_prev, rr = alpha, beta, rr_new.copy()
 
 
 def amg_shifted_cg(a, b_mat, shifts, rhs_of_shift, keep, *, rtol, maxiter):
