@@ -53,7 +53,7 @@ def test_ball_area_coefficient_srednicki():
     assert abs(a.entropy / 8.5**2 - 0.30) < 0.01
 
 
-def test_tail_quadrature_agrees_with_long_explicit_sum():
+def test_auto_cutoff_agrees_with_long_explicit_sum():
     quad = radial_entropy(30, 5)
     long = radial_entropy(30, 5, lmax=1500)
     allowed = quad.info["l_tail_bound"] + long.info["l_tail_bound"]
@@ -115,3 +115,85 @@ def test_parallel_sectors_match_serial():
     serial = radial_entropy(24, 4, lmax=40, n_jobs=1)
     parallel = radial_entropy(24, 4, lmax=40, n_jobs=2)
     assert_allclose(parallel.entropy, serial.entropy, rtol=1e-13)
+
+
+# --- the proven l-tail (methods/_wave_tail.py) -------------------------------------------------
+
+from arealaw.methods._radial import _sector  # noqa: E402
+from arealaw.methods._wave_tail import sector_bounds  # noqa: E402
+from arealaw.spectrum._measures import entropy_error_bound, renyi_entropy  # noqa: E402
+
+
+@pytest.mark.parametrize("n_radial,n,dim,mass", [
+    (40, 8, 3, 0.0), (24, 12, 2, 0.0), (30, 29, 3, 0.5), (16, 1, 2, 1.0), (50, 20, 3, 0.05),
+], ids=["d3", "d2-half", "d3-edge-massive", "d2-one-shell", "d3-light"])
+@pytest.mark.parametrize("order", [1.0, 2.0])
+def test_sector_bounds_bracket_computed_sectors(n_radial, n, dim, mass, order):
+    # each partial wave's entropy, computed densely, lies inside the proven bounds, for small l
+    # (loose) up to l well beyond any cut-off (where both sides close in like l^-4)
+    ls = [0, 1, 4, 16, 64, 256, 2048]
+    lo, up = sector_bounds(n_radial, n, ls, dim=dim, mass=mass, order=order)
+    for l, a, b in zip(ls, lo, up):
+        spec = _sector(n_radial, n, float(l), dim, mass)
+        s, err = renyi_entropy(spec, order), entropy_error_bound(spec, order)
+        assert a <= s + err and s - err <= b, (l, a, s, b)
+    gap = (up - lo) / lo
+    assert gap[-2] < 1e-2 and 100 < gap[-3] / gap[-2] < 600  # l^-4: 4^4 from l = 64 to 256
+
+
+@pytest.mark.parametrize("dim", [3, 2], ids=["d3", "d2"])
+def test_total_bound_covers_a_much_longer_sum(dim):
+    # S_ref: the same sum carried to a much larger cut-off (10^5 times smaller bound)
+    auto = radial_entropy(14, 4, dim=dim, rtol=1e-4)
+    ref = radial_entropy(14, 4, dim=dim, rtol=1e-9)
+    lo_ref, hi_ref = ref.entropy - ref.error_bound, ref.entropy + ref.error_bound
+    assert ref.error_bound < 1e-2 * auto.error_bound
+    assert auto.entropy - auto.error_bound <= lo_ref and hi_ref <= auto.entropy + auto.error_bound
+    diff = max(abs(auto.entropy - lo_ref), abs(auto.entropy - hi_ref))
+    assert auto.error_bound <= 1e3 * diff  # tight: the tail's bracket, not a guess
+    assert auto.info["lmax"] < ref.info["lmax"] and auto.error_bound < 1e-4 * auto.entropy
+
+
+def test_ten_shell_ball_bound_below_one_hundredth(capsys):
+    # the case named by issue 10: N = 60, d = 3, 10 shells, default accuracy
+    import json
+
+    from arealaw.cli import main
+    assert main(["entropy", "--radial", "60", "--dim", "3", "--shells", "10", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["error_bound"] <= 1e-2
+    assert doc["info"]["l_tail_lower"] <= doc["info"]["l_tail_estimate"] \
+        <= doc["info"]["l_tail_upper"]
+
+
+def test_cutoff_follows_the_tolerance():
+    # the tail bound falls like L^-6: lmax grows (slowly) as the target shrinks, and meets it
+    runs = [radial_entropy(24, 5, tol=tol, rtol=1e-14) for tol in (1e-1, 1e-3, 1e-5)]
+    lmax = [r.info["lmax"] for r in runs]
+    assert lmax[0] < lmax[1] < lmax[2]
+    for r, tol in zip(runs, (1e-1, 1e-3, 1e-5)):
+        assert r.error_bound <= tol
+
+
+def test_cli_rtol_sets_the_cutoff(capsys):
+    import json
+
+    from arealaw.cli import main
+    docs = []
+    for rtol in ("1e-3", "1e-7"):
+        assert main(["entropy", "--radial", "30", "--shells", "5", "--rtol", rtol, "--json"]) == 0
+        docs.append(json.loads(capsys.readouterr().out))
+    assert docs[0]["lmax"] < docs[1]["lmax"] and docs[1]["error_bound"] < 1e-6 * docs[1]["entropy"]
+    assert main(["entropy", "--shape", "10", "--box", "3", "--rtol", "1e-3"]) == 2
+    assert "add --radial N" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("dim,order", [(3, 0.5), (2, 0.25)], ids=["d3", "d2"])
+def test_divergent_renyi_orders_are_refused(dim, order):
+    # S_alpha of sector l is at least f_alpha(T_lo) ~ l^(-4 alpha): the l-sum diverges at or
+    # below these orders (derivation in methods/_wave_tail.py)
+    with pytest.raises(ValueError, match="diverges"):
+        radial_entropy(16, 3, dim=dim, renyi=[order])
+    res = radial_entropy(16, 3, dim=dim, renyi=[2, 0.9])
+    assert 0 < res.renyi_error_bound["2"] < 1e-4 * res.renyi["2"]
+    assert res.renyi_error_bound["0.9"] < res.renyi["0.9"]

@@ -3,7 +3,9 @@
 import math
 
 from .._entropy import entropy
-from .._numerics import DEFAULT_TOL
+from .._numerics import DEFAULT_TOL, check_tol
+from ..methods import RadialMethod
+from ..methods._radial import DEFAULT_RTOL as RADIAL_RTOL
 from ..methods._registry import choose_method, method_names
 from ..network import network_from_spec, radial_lattice, region_from_spec, shells
 from ..network._specs import LATTICE_SPEC, MATRIX_SPEC, REGION_SPEC
@@ -60,6 +62,10 @@ def register(sub):
                                                          "3 (default 3)")
     rad.add_argument("--shells", type=int, metavar="n",
                      help="the ball: first n radial sites, radius n + 1/2")
+    rad.add_argument("--rtol", type=float, metavar="R",
+                     help="relative accuracy of the sum over angular momenta (default "
+                          f"{RADIAL_RTOL:g}): the cut-off lmax is the smallest whose proven "
+                          "tail bound meets max(--tol, R*S)/2")
     _region_options(p)
     _region_options(p, "-b")
     out = p.add_argument_group("measures and numerics")
@@ -100,7 +106,8 @@ def _region_spec(args, suffix=""):
 def _radial_case(args):
     """Network and region for --radial; None when --radial is not given."""
     if args.radial is None:
-        for flag, value in (("--dim", args.dim), ("--shells", args.shells)):
+        for flag, value in (("--dim", args.dim), ("--shells", args.shells),
+                            ("--rtol", args.rtol)):
             if value is not None:
                 raise ValueError(f"{flag} belongs to the radial lattice; add --radial N")
         return None
@@ -121,6 +128,8 @@ def _radial_case(args):
 def run(args):
     radial = _radial_case(args)
     if radial is not None:
+        if args.rtol is not None and args.method in ("auto", "radial"):
+            args.method = RadialMethod(rtol=check_tol(args.rtol, "--rtol"))
         return _report(args, *radial, None)
     net = _network(args)
     spec_a = _region_spec(args)
@@ -189,8 +198,9 @@ def _summary(d):
                      "Rényi values and bounds below are per area too)")
     if d.get("lmax") is not None:
         lines.append(f"l cut-off        {d['lmax']}: {d['info']['partial_waves']} partial waves "
-                     f"summed exactly on {d['sites']} radial sites, tail integrated "
-                     f"(estimate {d['info']['l_tail_estimate']:.6g})")
+                     f"summed exactly on {d['sites']} radial sites; the tail l > "
+                     f"{d['lmax']} lies in [{d['info']['l_tail_lower']:.8g}, "
+                     f"{d['info']['l_tail_upper']:.8g}] (proven), its midpoint added")
     for k, v in d["renyi"].items():
         lines.append(f"Rényi S_{k:<9} {_fmt(v)}  (error bound {d['renyi_error_bound'][k]:.2g})")
     if "mutual_information" in d:

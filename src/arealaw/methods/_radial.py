@@ -9,51 +9,47 @@ momentum.  With φ = Σ φ_l(r) Y_l / r^{(d−1)/2}, the chain of angular moment
     d = 2:  V_l = Σ_j (j + ½) (φ_j/√j − φ_{j+1}/√(j+1))² + [l²/j² + m²] φ_j²,
 
 and S(first n shells) = Σ_l g_d(l) S_l with g_3(l) = 2l + 1, g_2(0) = 1, g_2(l ≥ 1) = 2.
-The l-sum converges slowly (terms g_d S_l ~ l^{d−6}·ln l at large l), so sectors l ≤ L are summed
-exactly and the rest is a quadrature over l in ln l (each quadrature node is a chain with a
-non-integer l, weighted by g_d(l) × the quadrature weight), plus a bound on what lies beyond
-the last node from the large-l asymptotics.  That keeps every measure (von Neumann and Rényi)
-a weighted sum over modes.
+The sectors l ≤ L are computed (dense chain correlators, in parallel when it pays); the tail
+l > L is bracketed by proven bounds lower ≤ Σ_{l>L} g_d S_l ≤ upper
+(:mod:`arealaw.methods._wave_tail`: a two-site form of the cut bond with Green-function
+supersolutions, both sides within O(l⁻⁴) relative of S_l).  The reported value adds modes whose
+weighted entropy is (lower + upper)/2, so every measure (von Neumann and Rényi) stays a weighted
+sum over modes, and each order's bound is max(E − lower, upper − E) for the represented E.  The
+bound on the tail shrinks like L⁻⁶, and L is the smallest cut-off whose tail bound meets
+half the target max(tol, rtol·S).
 """
 
-import math
+import functools
 import os
 
 import numpy as np
 
 from .._errors import UnsupportedMethodError
 from .._costs import cost
-from ..spectrum._measures import von_neumann_entropy
+from ..spectrum._measures import mode_entropy, von_neumann_entropy
 from ._registry import Method
+from ._wave_tail import WaveTail, degeneracy
 from ..network._network import OscillatorNetwork
 from ..network._radial import RadialLattice, radial_chain
-from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
+from ..spectrum._symplectic import SymplecticSpectrum, combine_spectra, symplectic_spectrum
 from ..correlators import Assessment, dense_correlators
 from ..correlators._dense import dominant_blocks
 
 __all__ = ["RadialMethod", "degeneracy"]
 
-#: Relative accuracy of the l-sum (tail estimate + bound) aimed at by default.
+#: Relative accuracy of the l-sum (the proven tail bound) aimed at by default.
 DEFAULT_RTOL = 1e-6
-#: Gauss–Legendre nodes per unit panel in ln l for the tail quadrature (and the embedded check).
-_GL_NODES = 6
-_GL_CHECK = 3
-#: Largest tail quadrature panel count (ln l up to ~ 40).
-_MAX_PANELS = 40
 #: Why temperature > 0 is refused: the large-l tail bound assumes the ground state.
 _THERMAL_REFUSAL = ("the radial method serves only the ground state (its large-l tail bound "
                     "assumes it); for temperature > 0 use a ball on arealaw.hypercubic with "
                     "method='spectral' or 'dense'")
-#: Below this leading t a sector's modes are close to rounding; the quadrature stops there.
-_T_RELIABLE = 1e-11
-
-
-def degeneracy(l, dim):
-    """g_d(l): 2l + 1 in 3-D; 1 for l = 0 and 2 otherwise in 2-D (l may be non-integer)."""
-    l = np.asarray(l, dtype=float)
-    if dim == 3:
-        return 2 * l + 1
-    return np.where(l == 0, 1.0, 2.0)
+#: Largest automatic cut-off (one dense chain per l); a target that needs more is reported
+#: with the bound reached there.
+MAX_LMAX = 20000
+#: Fraction of the target given to the l-tail (the rest to the sectors' numerics).
+_TAIL_SHARE = 0.5
+#: Terms of the tail summed one by one (then in closed form): start, and largest.
+_L_END, _L_END_MAX = 2**17, 2**21
 
 
 def _ball_shells(network, region):
@@ -86,80 +82,59 @@ def _sectors(n_radial, n, ls, dim, mass, n_jobs):
         joblib.delayed(_sector)(n_radial, n, l, dim, mass) for l in ls)
 
 
-def _remainder_bound(f_last, l_last, p_last):
-    """Σ_{l > l_last} f(l) ≤ ∫ f(l_last)(l/l_last)^{−p} dl when the local exponent only grows."""
-    if not p_last > 1:
-        return math.inf
-    return f_last * l_last / (p_last - 1)
+@functools.lru_cache(maxsize=4)
+def _wave_tail(nr, n, dim, mass, l_end):
+    # assess() and spectrum() of one case share it (building one costs ~0.1 s per 2^17 terms)
+    return WaveTail(nr, n, dim=dim, mass=mass, l_end=l_end)
 
 
-def _exponent(f0, f1, l0, l1):
-    if f0 <= 0 or f1 <= 0:
-        return math.inf if f1 <= 0 else -math.inf
-    return -math.log(f1 / f0) / math.log(l1 / l0)
+def _plan(nr, n, dim, mass, *, lmax, rtol, atol):
+    """(WaveTail, cut-off L, target): L from the proven tail bound unless ``lmax`` is fixed."""
+    tail = _wave_tail(nr, n, dim, mass, _L_END)
+    # a lower bound on S (every sector holds at least f(T_lo)) keeps the target conservative
+    target = max(atol, rtol * tail.total_lower())
+    while (tail.l_end < _L_END_MAX
+           and 0.5 * tail.far_upper() > 0.01 * _TAIL_SHARE * target):
+        tail = _wave_tail(nr, n, dim, mass, 2 * tail.l_end)
+    if lmax is not None:
+        return tail, int(lmax), target
+    return tail, tail.cutoff(_TAIL_SHARE * target, limit=MAX_LMAX), target
 
 
-def _gauss(k):
-    x, w = np.polynomial.legendre.leggauss(k)
-    return 0.5 * (x + 1), 0.5 * w
+def _tail_part(tail, cutoff, fixed):
+    """The modes carrying the tail estimate (none for a fixed cut-off) and the per-order bound."""
+    if fixed:
+        t, w = np.zeros(0), np.zeros(0)
+    else:
+        t, w = tail.midpoint_modes(cutoff)
+
+    def order_error(order):
+        lo, up = tail.bounds(cutoff, order)
+        est = float(np.dot(w, mode_entropy(t, order)))
+        return max(est - lo, up - est)
+
+    spec = SymplecticSpectrum(t=t, t_error=np.zeros_like(t), weights=w,
+                              trace=float(np.dot(w, t)), trace_error=0.0, nuclear_error=0.0)
+    return spec, order_error
 
 
 def _l_sum(network, n, *, lmax, rtol, atol, n_jobs):
-    """Sectors with weights, the explicit cut-off, and the bound on what was left out."""
+    """Sectors with weights, the tail's modes, its per-order bound, and diagnostics."""
     nr, dim, mass = network.n_radial, network.dim, network.mass
-    explicit = int(lmax) if lmax is not None else max(8 * n, 48)
-    ls = np.arange(explicit + 1)
+    tail, cutoff, target = _plan(nr, n, dim, mass, lmax=lmax, rtol=rtol, atol=atol)
+    ls = np.arange(cutoff + 1)
     specs = _sectors(nr, n, ls, dim, mass, n_jobs)
     weights = degeneracy(ls, dim)
-    terms = np.array([von_neumann_entropy(s) * w for s, w in zip(specs, weights)])
     parts = list(zip(specs, weights.tolist()))
-    s_explicit = float(terms.sum())
-    p_local = _exponent(terms[-2], terms[-1], explicit - 1, explicit) if explicit >= 2 else 0
-    info = {"lmax": explicit, "l_sum_explicit": s_explicit}
-    if lmax is not None:  # a fixed cut-off: bound the rest by the asymptotics, no quadrature
-        bound = _remainder_bound(terms[-1], explicit + 0.5, p_local)
-        info.update(l_tail_bound=bound, l_tail_estimate=0.0)
-        return parts, bound, info
-    # Tail Σ_{l > L} f(l) = ∫_{L+½}^∞ f(l) dl + O(f'(L)) (midpoint rule), with l = (L+½) e^u.
-    target = max(atol, rtol * s_explicit)
-    p_inf = 6.0 - dim  # f = g S_l ~ l^{d−6}·ln l: the local exponent rises towards 6 − d
-    l0 = explicit + 0.5
-    xs, ws = _gauss(_GL_NODES)
-    xc, wc = _gauss(_GL_CHECK)
-    tail, tail_check = 0.0, 0.0
-    rest, rest_half = 0.0, math.inf
-    f_prev, l_prev = terms[-1], float(explicit)
-    k = _GL_NODES
-    for panel in range(_MAX_PANELS):
-        u = panel + np.concatenate([xs, xc])
-        lq = l0 * np.exp(u)
-        sp_ = _sectors(nr, n, lq, dim, mass, n_jobs)
-        g = degeneracy(lq, dim)
-        wq = np.concatenate([ws, wc]) * lq * g  # dl = l du
-        s_node = np.array([von_neumann_entropy(s) for s in sp_])
-        tail += float(np.dot(s_node[:k], wq[:k]))
-        tail_check += float(np.dot(s_node[k:], wq[k:]))
-        parts += [(s, float(w)) for s, w in zip(sp_[:k], wq[:k])]
-        # What lies beyond l_end: between the asymptotic exponent p_inf (lower) and the current
-        # local exponent p (upper), since the local exponent only grows with l.
-        f_last, l_last = s_node[k - 1] * g[k - 1], lq[k - 1]
-        p_last = _exponent(f_prev, f_last, l_prev, l_last)
-        f_prev, l_prev = f_last, l_last
-        l_end = l0 * math.exp(panel + 1.0)
-        hi = _remainder_bound(f_last * (l_last / l_end) ** min(p_last, p_inf), l_end, p_last)
-        lo = f_last * (l_last / l_end) ** p_inf * l_end / (p_inf - 1) * (l_end / (l_end + 1))
-        rest, rest_half = 0.5 * (hi + lo), 0.5 * (hi - lo)
-        # Sectors whose leading t is near rounding (~1e-11) would only add noise: stop there.
-        reliable = sp_[k - 1].t.size and sp_[k - 1].t[0] > _T_RELIABLE
-        if panel >= 1 and (rest_half + abs(tail - tail_check) < 0.5 * target or not reliable):
-            break
-    if math.isfinite(rest) and rest > 0 and s_node[k - 1] > 0:
-        # the remainder enters as the last node's spectrum, scaled to carry the estimate
-        parts.append((sp_[k - 1], float(rest / s_node[k - 1])))
-    midpoint = 3.0 * terms[-1] / (24.0 * l0)  # |f'| ≈ 3 f / l: the midpoint-rule correction
-    bound = rest_half + abs(tail - tail_check) + midpoint
-    info.update(l_tail_estimate=tail + rest, l_tail_bound=bound, l_tail_end=l_end)
-    return parts, bound, info
+    s_explicit = float(sum(von_neumann_entropy(s) * w for s, w in parts))
+    tail_spec, order_error = _tail_part(tail, cutoff, lmax is not None)
+    if tail_spec.t.size:
+        parts.append((tail_spec, 1.0))
+    lo, up = tail.bounds(cutoff)
+    info = {"lmax": cutoff, "l_sum_explicit": s_explicit,
+            "l_tail_estimate": von_neumann_entropy(tail_spec), "l_tail_bound": order_error(1.0),
+            "l_tail_lower": lo, "l_tail_upper": up, "l_target": target}
+    return parts, order_error, info
 
 
 class RadialMethod(Method):
@@ -185,22 +160,23 @@ class RadialMethod(Method):
                 _ball_shells(network, r)
             except UnsupportedMethodError as exc:
                 return Assessment(False, str(exc))
-        n_l = (self.lmax or 8 * max(r.size for r in regions) + 48) + 200
-        seconds = len(regions) * n_l * (cost("radial.sector_cube") * network.n_radial**3
-                                        + cost("radial.sector_overhead"))
+        n_l = 1 + sum(_plan(network.n_radial, r.size, network.dim, network.mass,
+                            lmax=self.lmax, rtol=self.rtol, atol=tol)[1] for r in regions)
+        seconds = n_l * (cost("radial.sector_cube") * network.n_radial**3
+                         + cost("radial.sector_overhead"))
         return Assessment(True, f"partial waves on {network.n_radial} radial sites, "
                                 f"d = {network.dim}", 8.0 * network.n_radial**2 * 6, seconds)
 
     def spectrum(self, network, region, *, tol, temperature=0.0):
-        """Partial-wave sectors joined with weights, plus the bound on the l-sum."""
+        """Partial-wave sectors joined with weights, the tail's modes and its proven bound."""
         if temperature > 0:
             raise UnsupportedMethodError(_THERMAL_REFUSAL)
         if not isinstance(network, RadialLattice):
             raise UnsupportedMethodError("method 'radial' needs a radial lattice "
                                          "(arealaw.radial_lattice)")
         n = _ball_shells(network, region)
-        parts, bound, info = _l_sum(network, n, lmax=self.lmax, rtol=self.rtol, atol=tol,
-                                    n_jobs=self.n_jobs)
+        parts, order_error, info = _l_sum(network, n, lmax=self.lmax, rtol=self.rtol, atol=tol,
+                                          n_jobs=self.n_jobs)
         info.update(n_radial=network.n_radial, dim=network.dim, shells=n, radius=n + 0.5,
                     sectors=len(parts))
-        return combine_spectra(parts, extra_error=bound, info=info)
+        return combine_spectra(parts, info=info, order_error=order_error)

@@ -94,8 +94,10 @@ def entropy_error_bound(spec, order=1.0):
     When the spectrum carries its trace (every dense symmetric-form spectrum and sums of them),
     the near-½ modes are bounded as a sum with the trace and concavity
     (:func:`~arealaw.spectrum._bounds.sum_error_bound`); otherwise mode by mode from ``t_error``,
-    plus the restricted tail bound m·s(T/m).  ``extra_error`` is added in both cases.
+    plus the restricted tail bound m·s(T/m).  ``extra_error`` (and ``order_error(order)`` when
+    the spectrum has one) is added in both cases.
     """
+    extra = spec.extra_error + (0.0 if spec.order_error is None else spec.order_error(order))
     if spec.trace is not None and spec.tail is None:
         n = normalize_order(order)
         nuclear = (spec.nuclear_error if spec.nuclear_error is not None else
@@ -103,14 +105,14 @@ def entropy_error_bound(spec, order=1.0):
         err = sum_error_bound(spec.t, spec.t_error, spec.weights, trace=spec.trace,
                               trace_error=spec.trace_error, nuclear=nuclear,
                               f=lambda t: mode_entropy(t, n))
-        return float(err + spec.extra_error)
+        return float(err + extra)
     lo = np.maximum(spec.t - spec.t_error, 0.0)
     hi = spec.t + spec.t_error
     err = _weighted(spec, mode_entropy(hi, order) - mode_entropy(lo, order))
     if spec.tail is not None and spec.tail.count > 0 and spec.tail.sum_t > 0:
         mean = min(spec.tail.sum_t / spec.tail.count, spec.tail.max_t)
         err += spec.tail.count * float(mode_entropy(np.array([mean]), order)[0])
-    return float(err + spec.extra_error)
+    return float(err + extra)
 
 
 def entanglement_energies(spec):

@@ -57,6 +57,9 @@ class SymplecticSpectrum:
     nuclear_error : float or None
         Bound on Σ w·|t_exact − t| over the computed modes (None: use Σ w·t_error).
         With ``trace`` these give the sum bounds of :mod:`arealaw.spectrum._bounds`.
+    order_error : callable or None
+        ``order_error(order)``: a further bound that depends on the Rényi order (1 = von Neumann),
+        added to ``extra_error`` (e.g. the partial-wave tail, whose bound differs per order).
     """
 
 
@@ -70,6 +73,7 @@ class SymplecticSpectrum:
     trace: float = None
     trace_error: float = 0.0
     nuclear_error: float = None
+    order_error: object = None
 
     @property
     def nu(self):
@@ -207,11 +211,12 @@ def form_eigenvalues(x, p, *, x_error=0.0, p_error=0.0, x_dominant=None, p_domin
     return lam, delta + corr.per_mode
 
 
-def combine_spectra(parts, *, extra_error=0.0, info=None):
+def combine_spectra(parts, *, extra_error=0.0, info=None, order_error=None):
     """Join spectra of independent sectors, ``parts`` = [(spectrum, weight), ...].
 
     Used by symmetry reductions (partial waves, transverse momenta): each sector's modes enter
-    with multiplicity ``weight``; tails and extra errors add up.
+    with multiplicity ``weight``; tails and extra errors add up (``order_error``, a per-order
+    bound, is the joined spectrum's; the parts must not carry one).
     """
     parts = list(parts)
     if not parts:
@@ -237,4 +242,4 @@ def combine_spectra(parts, *, extra_error=0.0, info=None):
     return SymplecticSpectrum(t=t[order], t_error=d[order], weights=w[order], tail=tail,
                               clamped=sum(s.clamped for s, _ in parts), extra_error=float(extra),
                               info=dict(info or {}), trace=trace, trace_error=trace_err or 0.0,
-                              nuclear_error=nuclear)
+                              nuclear_error=nuclear, order_error=order_error)
