@@ -50,3 +50,16 @@ def test_save_figure_renders_each_format_once(tmp_path):
     png, paths = save_figure(fig, tmp_path / "f", ("svg", "png"))
     assert sorted(p.name for p in paths) == ["f.png", "f.svg"]
     assert (tmp_path / "f.png").read_bytes() == png
+    svg = (tmp_path / "f.svg").read_text(encoding="utf-8")
+    assert "B (9 sites)" in svg  # text kept as text, not glyph paths
+
+
+def test_save_figure_lays_out_once_and_skips_an_unasked_png(tmp_path):
+    net = hypercubic((12, 12), mass=0.2)
+    fig = region_figure(net, box(net, 3, origin=(2, 2)))
+    png, paths = save_figure(fig, tmp_path / "f", ("svg", "pdf"), png=False)
+    assert png is None and sorted(p.name for p in paths) == ["f.pdf", "f.svg"]
+    assert not (tmp_path / "f.png").exists()
+    # the constrained layout of the first rendering is kept for the second
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+    assert isinstance(fig.get_layout_engine(), PlaceHolderLayoutEngine)

@@ -44,7 +44,8 @@ def cmd_plot(args):
                     print(f"arealaw plot: no {slug} figure for {name}: {exc}", file=sys.stderr)
                     continue
                 if fig is not None:
-                    written += save_figure(fig, out / f"{_slug(name)}_{slug}", args.format)[1]
+                    written += save_figure(fig, out / f"{_slug(name)}_{slug}", args.format,
+                                           png=False)[1]
             bar.update(1)
         bar.close()
     for p in written:

@@ -8,8 +8,8 @@
 * :func:`mode_figure` — the most entangled modes (largest ν): line plots on chains, images of a
   slice (cropped to the region and a margin) in 2-D and 3-D, with labelled colour bars.
 
-:func:`save_figure` renders a figure once per requested format and returns the PNG bytes (the
-report embeds those), so ``plot`` and ``report`` never draw a figure twice.
+:func:`save_figure` renders a figure once per requested format (laying it out once) and returns
+the PNG bytes (the report embeds those), so ``plot`` and ``report`` never draw a figure twice.
 """
 
 import io
@@ -43,9 +43,14 @@ def figure_png(fig, path=None, *, dpi=110):
     return data
 
 
-def save_figure(fig, stem=None, formats=("png",), *, dpi=110):
+def save_figure(fig, stem=None, formats=("png",), *, dpi=110, png=True):
     """Write ``fig`` as ``stem.<format>`` for each of ``formats`` (when ``stem`` is given) and
-    return (PNG bytes, paths written).  Each format is rendered once.
+    return (PNG bytes, paths written); the PNG is rendered even when ``formats`` leaves it out
+    unless ``png=False`` (then the bytes are None).
+
+    Each format is rendered once, and the layout is computed once: the constrained layout of the
+    first rendering is kept for the others.  SVG files keep their text as text (no glyph paths:
+    smaller files, drawn faster, and the labels stay searchable).
 
     Examples
     --------
@@ -55,22 +60,26 @@ def save_figure(fig, stem=None, formats=("png",), *, dpi=110):
     >>> png[:4], paths
     (b'\x89PNG', [])
     """
+    from matplotlib import rc_context
     unknown = [f for f in formats if f not in FORMATS]
     if unknown:
         raise ValueError(f"figure format {unknown[0]!r} is not known; allowed: "
                          f"{', '.join(FORMATS)}")
-    png, paths = None, []
-    for fmt in dict.fromkeys(["png", *formats]):
+    data_png, paths = None, []
+    for i, fmt in enumerate(dict.fromkeys((["png"] if png else []) + list(formats))):
+        if i == 1:  # the first rendering placed the axes: keep them where they are
+            fig.set_layout_engine("none")
         buf = io.BytesIO()
-        fig.savefig(buf, format=fmt, dpi=dpi)  # constrained layout: no second draw for "tight"
+        with rc_context({"svg.fonttype": "none"}):
+            fig.savefig(buf, format=fmt, dpi=dpi)  # constrained layout: no tight-bbox redraw
         data = buf.getvalue()
         if fmt == "png":
-            png = data
+            data_png = data
         if stem is not None and fmt in formats:
             path = Path(f"{stem}.{fmt}")
             path.write_bytes(data)
             paths.append(path)
-    return png, paths
+    return data_png, paths
 
 
 def error_bar_label(fit):
