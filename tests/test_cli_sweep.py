@@ -211,3 +211,46 @@ def test_errors_are_one_line_and_exit_2(swept, tmp_path, capsys, argv, fragment,
     argv = [a.format(**fill) for a in argv]
     err = _out(capsys, argv, status=2).err
     assert err.count("\n") == 1 and fragment in err, err
+
+
+def test_stored_mode_profiles_are_drawn_without_recomputing(tmp_path, capsys, monkeypatch):
+    import numpy as np
+
+    import arealaw.views._report as views_report
+    from arealaw import box, hypercubic, region_modes
+    scen = tmp_path / "m.toml"
+    scen.write_text('[numerics]\nmethod = "dense"\nmode_profiles = 3\n[lattices.c]\n'
+                    'shape = [40]\nmass = 0.1\n[[family]]\nbox = {values = [4, 8, 12]}\n'
+                    'origin = [2]\n')
+    store = str(tmp_path / "m.sqlite")
+    _out(capsys, ["run", str(scen), "--store", store, "--quiet"])
+    (row,) = [r for r in json.loads(_out(capsys, ["results", "--store", store, "--json"]).out)
+              if r["x"] == 12]
+    stored = row["mode_profiles"]
+    net = hypercubic(40, mass=0.1)
+    nu, u = region_modes(net, box(net, 12, origin=2), count=3)
+    # the same eigenproblem as region_modes: agreement to rounding (common practice, no source)
+    assert_allclose(stored["nu"], nu, rtol=1e-12)
+    assert_allclose(np.abs(np.sum(np.asarray(stored["profiles"]) * u, axis=1)), 1.0, rtol=1e-9)
+
+    def no_blocks(*args, **kwargs):
+        raise AssertionError("mode profiles recomputed although stored")
+    monkeypatch.setattr(views_report, "region_modes", no_blocks)
+    path = tmp_path / "m.html"
+    _out(capsys, ["report", "--store", store, "--out", str(path), "--no-figure-files"])
+    html = path.read_text()
+    assert "most entangled modes of box=12 (read from the store)" in html
+    assert "site profiles of the 3 most entangled modes" in html
+
+
+@pytest.mark.parametrize("extra, fragment", [
+    ("mode_profiles = -1", "must be a whole number >= 0"),
+    ("mode_profiles = true", "must be a whole number >= 0"),
+    ("mode_profiles = 2\ntemperature = 0.5", "leave it out of thermal cases"),
+])
+def test_mode_profiles_refusals(tmp_path, capsys, extra, fragment):
+    scen = tmp_path / "bad.toml"
+    scen.write_text(f"[numerics]\n{extra}\n[lattices.c]\nshape = [20]\nmass = 0.1\n"
+                    "[[family]]\nbox = {values = [2, 4]}\n")
+    err = _out(capsys, ["run", str(scen), "--store", str(tmp_path / "x.sqlite")], status=2).err
+    assert fragment in err and "mode_profiles" in err and err.count("\n") == 1

@@ -187,6 +187,9 @@ def _setup(rows):
     if energies:
         measures.append("the whole entanglement spectrum" if energies >= ALL_ENERGIES
                         else f"the {energies} lowest entanglement energies")
+    profiles = max(s.get("mode_profiles", 0) for s in specs)
+    if profiles:
+        measures.append(f"site profiles of the {profiles} most entangled modes")
     out.append(("measures", "; ".join(measures)))
     chosen = {}
     for r in rows:
@@ -266,11 +269,16 @@ def _rebuild(row):
 
 
 def mode_row(rows):
-    """The largest swept case small enough for a mode picture (None if there is none)."""
-    small = [r for r in rows if r.get("x") is not None and not r.get("region_b")
-             and isinstance(r.get("region_sites"), int)
+    """The case whose most entangled modes are drawn, and whether they are stored: the largest
+    swept case that stored them (scenario key ``mode_profiles``), else the largest case small
+    enough to recompute them (``MODE_PICTURE_LIMIT`` sites); (None, False) if there is none."""
+    swept = [r for r in rows if r.get("x") is not None and not r.get("region_b")]
+    stored = [r for r in swept if (r.get("mode_profiles") or {}).get("profiles")]
+    if stored:
+        return max(stored, key=lambda r: r["x"]), True
+    small = [r for r in swept if isinstance(r.get("region_sites"), int)
              and r["region_sites"] <= MODE_PICTURE_LIMIT]
-    return max(small, key=lambda r: r["x"]) if small else None
+    return (max(small, key=lambda r: r["x"]), False) if small else (None, False)
 
 
 def group_figures(name, rows, fit, *, measure="entropy"):
@@ -294,16 +302,22 @@ def group_figures(name, rows, fit, *, measure="entropy"):
         return None if net is None else region_figure(
             net, reg, region_b=reg_b, title=f"{largest['family']}: {largest['label']}")
     out.append(("region", "regions", region))
-    mrow = mode_row(rows)
+    mrow, stored = mode_row(rows)
     if mrow is not None:
         def modes():
             net, reg, _ = _rebuild(mrow)
             if net is None:
                 return None
-            nu, u = region_modes(net, reg, count=2)
+            if stored:
+                nu, u = (mrow["mode_profiles"]["nu"][:2],
+                         mrow["mode_profiles"]["profiles"][:2])
+            else:  # not in the store: the region's blocks are computed again
+                nu, u = region_modes(net, reg, count=2)
             return mode_figure(net, reg, nu, u, title=f"most entangled modes, {mrow['family']}: "
                                                       f"{mrow['label']}")
-        out.append(("modes", "most entangled modes", modes))
+        how = ("read from the store" if stored else "recomputed from the correlator blocks; "
+               "mode_profiles = 2 in the scenario's numerics stores them")
+        out.append(("modes", f"most entangled modes of {mrow['label']} ({how})", modes))
     if largest.get("entanglement_energies"):
         out.append(("energies", "entanglement energies", lambda: energies_figure(
             largest["entanglement_energies"], title=f"{name}: {largest['label']}")))
@@ -322,7 +336,8 @@ def _figure_html(fig_dir, name, slug, caption, make, formats, written):
     png, paths = save_figure(fig, stem, formats)
     written += paths
     data = base64.b64encode(png).decode("ascii")
-    return f'<img alt="{html.escape(caption)}" src="data:image/png;base64,{data}">'
+    return (f'<figure><img alt="{html.escape(caption)}" src="data:image/png;base64,{data}">'
+            f'<figcaption class="note">{html.escape(caption)}</figcaption></figure>')
 
 
 def _negativity_section(rows, pair, powers, endpoints, size):

@@ -40,6 +40,7 @@ class Case:
     region_b: dict = None
     renyi: list = field(default_factory=list)
     energies: int = 0
+    mode_profiles: int = 0
     method: str = "auto"
     tol: float = DEFAULT_TOL
     temperature: float = 0.0
@@ -56,8 +57,8 @@ class Case:
         return case_hash(self)
 
     def content(self):
-        """The dict the content hash is taken over (``temperature`` only when > 0 and
-        ``negativity`` only when set, so ground-state cases keep their keys)."""
+        """The dict the content hash is taken over (``temperature`` only when > 0, and
+        ``negativity`` and ``mode_profiles`` only when set, so earlier cases keep their keys)."""
         out = {"network": self.network, "region": self.region, "region_b": self.region_b,
                "renyi": [order_label(n) for n in self.renyi], "energies": self.energies,
                "method": self.method, "tol": self.tol, "version": self.version}
@@ -65,6 +66,8 @@ class Case:
             out["temperature"] = float(self.temperature)
         if self.negativity:
             out["negativity"] = True
+        if self.mode_profiles:
+            out["mode_profiles"] = int(self.mode_profiles)
         return out
 
     def to_dict(self):

@@ -36,6 +36,7 @@ Layout::
     tol = 1e-10
     renyi = [2]
     energies = 8                     # or "all": the whole entanglement spectrum of each case
+    mode_profiles = 2                # store the site profiles of the 2 most entangled modes
     negativity = false               # true: also the logarithmic negativity E_N (a pair: A:B;
                                      # a family: the region against the rest of the lattice)
     [lattices.cube]
@@ -82,7 +83,7 @@ __all__ = ["Case", "Scenario", "build_network", "build_region", "case_hash", "lo
 
 TOP_KEYS = ("title", "out", "numerics", "lattices", "family", "pair")
 #: ``temperature`` (of the Gibbs state; 0 = ground state) may also be a sweep in a family or pair.
-NUMERICS_KEYS = ("method", "tol", "renyi", "energies", "temperature", "negativity")
+NUMERICS_KEYS = ("method", "tol", "renyi", "energies", "mode_profiles", "temperature", "negativity")
 #: Keys of measures not yet computed by sweeps: refused with this reason (none at present).
 PLANNED_KEYS = {}
 SWEEP_CONTROL_KEYS = ("size", "tied", "vars")
@@ -181,7 +182,7 @@ def parse_scenario(text, *, source="", base=None):
         if not isinstance(val, str):
             raise w.error(f"{key} = {val!r} must be a string", key)
     defaults = _numerics(data.get("numerics", {}), {"method": "auto", "tol": DEFAULT_TOL,
-                                                    "renyi": [], "energies": 0,
+                                                    "renyi": [], "energies": 0, "mode_profiles": 0,
                                                     "temperature": 0.0, "negativity": False},
                          w, "numerics")
     lattices = data.get("lattices")
@@ -258,6 +259,11 @@ def _numerics(spec, base, w, header, nth=0, allowed=NUMERICS_KEYS):
             raise w.error(f"energies = {val!r} must be a whole number >= 0 or \"all\" (the "
                           "whole entanglement spectrum, stored with each case)", key, header,
                           nth)
+        if key == "mode_profiles" and (isinstance(val, bool) or not isinstance(val, int)
+                                       or val < 0):
+            raise w.error(f"mode_profiles = {val!r} must be a whole number >= 0 (how many of "
+                          "the most entangled modes to store the site profiles of)", key,
+                          header, nth)
         if key == "negativity" and not isinstance(val, bool):
             raise w.error(f"negativity = {val!r} must be true or false", key, header, nth)
         if key == "renyi":
@@ -419,9 +425,16 @@ def _family_cases(fam, nth, kind, lattices, defaults, w, base, networks):
         except ValueError as exc:
             raise w.error(str(exc).replace("temperature=", "temperature = ", 1), "temperature",
                           header, nth) from None
+        if num["mode_profiles"] and (temperature or "radial" in net_spec):
+            raise w.error(f"mode_profiles = {num['mode_profiles']} stores ground-state site "
+                          "profiles: leave it out of " + ("thermal cases" if temperature else
+                                       "a radial lattice (its regions are shells)"),
+                          "mode_profiles",
+                          header, nth)
         cases.append(Case(network=_canon(net_spec), region=_canon(region),
                           region_b=_canon(region_b) if region_b else None,
                           renyi=list(num["renyi"]), energies=int(num["energies"]),
+                          mode_profiles=int(num["mode_profiles"]),
                           method=num["method"], tol=float(num["tol"]),
                           temperature=temperature, family=name,
                           label=label, x=x, lattice=lattice,

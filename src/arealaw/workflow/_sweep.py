@@ -14,7 +14,7 @@ from collections import OrderedDict, deque
 import numpy as np
 from threadpoolctl import threadpool_limits
 
-from .._entropy import entropy
+from .._entropy import entropy, region_modes
 from ..network._regions import complement, cut_couplings
 from ._cases import build_network, build_region
 from ._workers import WAIT, WorkerPool, usable_cores
@@ -73,6 +73,10 @@ def compute_case(case):
                       "mutual_information_error_bound", "region_b_sites", "region_b"):
                 out.pop(k, None)
             out["log_negativity_partner"] = "rest of the lattice"
+        if case.mode_profiles:  # what mode figures draw: plot and report then need no blocks
+            nu, u = region_modes(network, region, count=min(case.mode_profiles, region.size),
+                                 tol=case.tol)
+            out["mode_profiles"] = {"nu": nu.tolist(), "profiles": u.tolist()}
         out["dim"] = network.ndim
         out["boundary_bonds"] = (boundary_bonds(network, region)
                                  if network.n_sites is not None else None)
