@@ -37,3 +37,58 @@ def test_quiet_cli_writes_nothing_to_stderr(capsys):
     assert main(["entropy", "--shape", "12", "12", "--mass", "0.3", "--ball", "3", "--quiet",
                  "--json"]) == 0
     assert capsys.readouterr().err == ""
+
+
+# --- plot, report and demo: silent with --quiet, bars for long stages otherwise -------------
+
+SQUARE = """
+title = "tiny square"
+[numerics]
+method = "dense"
+[lattices.square]
+shape = [10, 10]
+mass = 0.3
+[[family]]
+name = "boxes"
+box = {from = 2, to = 6}
+"""
+
+
+def _slow_modes(monkeypatch):
+    """Bars show at once, and the recomputation of modes reports a stage as a long one would
+    (through the progress protocol, without sleeping)."""
+    import arealaw.cli._common as common
+    import arealaw.views._report as views_report
+    real = views_report.region_modes
+
+    def reporting_modes(*args, **kwargs):
+        for done in range(1, 4):
+            report("spectrum", done, 3)
+        return real(*args, **kwargs)
+    monkeypatch.setattr(common, "PROGRESS_DELAY", 0.0)
+    monkeypatch.setattr(views_report, "region_modes", reporting_modes)
+
+
+def _run(capsys, argv):
+    capsys.readouterr()
+    assert main(argv) == 0
+    return capsys.readouterr().err
+
+
+def test_plot_report_and_demo_bars_only_without_quiet(tmp_path, capsys, monkeypatch):
+    import arealaw.cli._demo as demo
+    _slow_modes(monkeypatch)
+    scen = tmp_path / "s.toml"
+    scen.write_text(SQUARE)
+    store = str(tmp_path / "s.sqlite")
+    assert _run(capsys, ["run", str(scen), "--store", store, "--quiet"]) == ""
+    plot = ["plot", "--store", store, "--out", str(tmp_path / "f"), "--format", "png"]
+    rep = ["report", "--store", store, "--out", str(tmp_path / "r.html"), "--no-figure-files"]
+    monkeypatch.setattr(demo, "demo_scenario_text", lambda: SQUARE)
+    dem = ["demo", "--out", str(tmp_path / "demo"), "--workers", "1"]
+    for argv, group in ((plot, "plot"), (rep, "report"), (dem, None)):
+        assert _run(capsys, argv + ["--quiet"]) == "", argv[0]
+        err = _run(capsys, argv)
+        assert "spectrum" in err, (argv[0], err)  # the stage's bar
+        if group:
+            assert f"{group}:" in err, (argv[0], err)  # the bar over groups

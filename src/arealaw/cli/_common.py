@@ -99,13 +99,15 @@ PROGRESS_DELAY = 2.0
 
 
 @contextlib.contextmanager
-def progress_bars(enabled=True, *, delay=PROGRESS_DELAY):
+def progress_bars(enabled=True, *, delay=None):
     """Show what lower layers report (:mod:`arealaw._progress`) as tqdm bars on stderr, one per
     stage (correlators, shifted solves, spectrum, ...), each with its ETA; a bar appears only
-    once its stage has run ``delay`` seconds, so quick work prints nothing."""
+    once its stage has run ``delay`` seconds (default :data:`PROGRESS_DELAY`), so quick work
+    prints nothing."""
     if not enabled:
         yield
         return
+    delay = PROGRESS_DELAY if delay is None else delay
     from tqdm import tqdm
 
     from .._progress import reporting

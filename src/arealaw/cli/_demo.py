@@ -5,7 +5,7 @@ import time
 from importlib.resources import files
 from pathlib import Path
 
-from ._common import HelpFormatter, positive_int
+from ._common import HelpFormatter, positive_int, progress_bars
 from ._run import sweep
 from ._stores import open_store
 
@@ -24,7 +24,8 @@ def register(sub):
                    help="write the demo scenario to FILE and stop (edit it, then arealaw run)")
     p.add_argument("--workers", type=positive_int, default=min(2, os.cpu_count() or 1),
                    metavar="N", help="local worker processes (default: up to 2)")
-    p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    p.add_argument("--quiet", "--no-progress", dest="no_progress", action="store_true",
+                   help="no progress bars")
     p.set_defaults(func=cmd_demo)
 
 
@@ -50,7 +51,7 @@ def cmd_demo(args):
     store_path = out / "results.sqlite"
     t0 = time.perf_counter()
     status = sweep(scenario, str(store_path), args.workers, None, not args.no_progress)
-    with open_store(store_path) as store:
+    with open_store(store_path) as store, progress_bars(not args.no_progress):
         for key, rows in fit_groups(store.rows()).items():
             fit = fit_rows(rows, size="bonds")
             print(f"{key[0]}: {fit.law}, R = (boundary bonds)^(1/2): " + ", ".join(

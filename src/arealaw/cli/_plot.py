@@ -3,7 +3,7 @@
 import sys
 from pathlib import Path
 
-from ._common import HelpFormatter
+from ._common import HelpFormatter, progress_bars
 from ._stores import fit_options, fits, formats, group_bar, open_store
 
 __all__ = ["register"]
@@ -19,7 +19,7 @@ def register(sub):
     p.add_argument("--out", default="figures", metavar="DIR", help="folder (default: figures)")
     p.add_argument("--format", type=formats, default=("png", "svg"), metavar="F,F",
                    help="file formats, comma-separated: png, svg, pdf (default: png,svg)")
-    p.add_argument("--quiet", action="store_true", help="no progress bar")
+    p.add_argument("--quiet", action="store_true", help="no progress bars")
     p.set_defaults(func=cmd_plot)
 
 
@@ -33,7 +33,7 @@ def cmd_plot(args):
     out = Path(args.out)
     out.mkdir(parents=True, exist_ok=True)
     written = []
-    with open_store(args.store) as store:
+    with open_store(args.store) as store, progress_bars(not args.quiet):
         found = fits(args, store)
         bar = group_bar(len(found), "plot", args)
         for name, fit, rows in found:

@@ -2,7 +2,7 @@
 
 from pathlib import Path
 
-from ._common import HelpFormatter
+from ._common import HelpFormatter, progress_bars
 from ._stores import fit_options, formats, group_bar, open_store
 
 __all__ = ["register"]
@@ -21,7 +21,7 @@ def register(sub):
                         "the report (default: png,svg)")
     p.add_argument("--no-figure-files", dest="format", action="store_const", const=(),
                    help="only embed the figures in the HTML file")
-    p.add_argument("--quiet", action="store_true", help="no progress bar")
+    p.add_argument("--quiet", action="store_true", help="no progress bars")
     p.set_defaults(func=cmd_report)
 
 
@@ -29,7 +29,7 @@ def cmd_report(args):
     from ..views._report import write_report
     out = Path(args.out)
     figures = out.with_name(out.stem + "_figures") if args.format else None
-    with open_store(args.store) as store:
+    with open_store(args.store) as store, progress_bars(not args.quiet):
         bar = group_bar(None, "report", args)
 
         def progress(done, total):

@@ -34,7 +34,8 @@ def register(sub):
                    help="dask.distributed scheduler, e.g. tcp://head-node:8786")
     p.add_argument("--scheduler-timeout", type=positive_float, default=20.0, metavar="SECONDS",
                    help="how long to try reaching the scheduler (default 20)")
-    p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    p.add_argument("--quiet", "--no-progress", dest="no_progress", action="store_true",
+                   help="no progress bar")
     p.set_defaults(func=cmd_run)
 
 

@@ -78,8 +78,11 @@ def formats(text):
 
 
 def group_bar(total, desc, args):
-    """A progress bar on stderr unless --quiet (tqdm hides itself for quick work)."""
+    """A progress bar over groups on stderr unless --quiet; like the stage bars it appears
+    only after :data:`~._common.PROGRESS_DELAY` seconds, so quick work prints nothing."""
     from tqdm import tqdm
+
+    from . import _common
     return tqdm(total=total, desc=desc, unit="group", file=sys.stderr,
-                disable=getattr(args, "quiet", False), mininterval=0.5, delay=2.0,
-                dynamic_ncols=True)
+                disable=getattr(args, "quiet", False), mininterval=0.5,
+                delay=_common.PROGRESS_DELAY, dynamic_ncols=True)
