@@ -56,7 +56,8 @@ def test_save_figure_renders_each_format_once(tmp_path):
 
 def test_save_figure_lays_out_once_and_skips_an_unasked_png(tmp_path):
     net = hypercubic((12, 12), mass=0.2)
-    fig = region_figure(net, box(net, 3, origin=(2, 2)))
+    reg = box(net, 3, origin=(2, 2))
+    fig = mode_figure(net, reg, [0.8], np.full((1, reg.size), 1 / 3))  # constrained layout
     png, paths = save_figure(fig, tmp_path / "f", ("svg", "pdf"), png=False)
     assert png is None and sorted(p.name for p in paths) == ["f.pdf", "f.svg"]
     assert not (tmp_path / "f.png").exists()

@@ -30,10 +30,24 @@ MARGIN = 3
 TITLE_Y = 1.0
 
 
+#: Margins (inches: left, right, bottom, top) of figures laid out by hand.  Constrained layout
+#: measures every tick label twice per rendering and took a quarter of ``report``'s time; the
+#: line plots have labels of known extent, so fixed margins serve them.  Image panels with
+#: colour bars keep constrained layout.
+MARGINS = (0.85, 0.2, 0.55, 0.35)
+
+
 def _figure(**kwargs):
     # matplotlib is imported on first use: ``import arealaw`` must stay light
     from matplotlib.figure import Figure
     return Figure(**kwargs)
+
+
+def _fixed_grid(figsize, **gridspec):
+    """gridspec_kw placing the axes inside :data:`MARGINS` of a figure of ``figsize``."""
+    (w, h), (left, right, bottom, top) = figsize, MARGINS
+    return {"left": left / w, "right": 1 - right / w, "bottom": bottom / h, "top": 1 - top / h,
+            **gridspec}
 
 
 def figure_png(fig, path=None, *, dpi=110):
@@ -108,8 +122,9 @@ def scaling_figure(fit, *, title="", measure="entropy"):
     >>> len(fig.axes)
     2
     """
-    fig = _figure(figsize=(6.4, 6.0), layout="constrained")
-    ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
+    fig = _figure(figsize=(6.4, 6.0))
+    ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw=_fixed_grid(
+        (6.4, 6.0), height_ratios=[3, 1.3], hspace=0.22))
     r = fit.sizes
     grid = np.linspace(r.min(), r.max(), 200)
     if fit.dim == 1:
@@ -147,8 +162,9 @@ def decay_figure(fit, *, title=""):
     >>> len(decay_figure(fit_decay(r, 0.2 * r**-3.0)).axes)
     2
     """
-    fig = _figure(figsize=(6.4, 6.0), layout="constrained")
-    ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
+    fig = _figure(figsize=(6.4, 6.0))
+    ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw=_fixed_grid(
+        (6.4, 6.0), height_ratios=[3, 1.3], hspace=0.22))
     r = fit.sizes
     grid = np.geomspace(r.min(), r.max(), 200)
     ax.errorbar(r, fit.values, yerr=fit.sigma, fmt="o", ms=4, label="I(A:B)")
@@ -170,8 +186,8 @@ def decay_figure(fit, *, title=""):
 
 def energies_figure(energies, *, title=""):
     """Entanglement energies ε_k (ν = ½ coth(ε/2)) against their index k."""
-    fig = _figure(figsize=(5.6, 3.6), layout="constrained")
-    ax = fig.subplots()
+    fig = _figure(figsize=(5.6, 3.6))
+    ax = fig.subplots(gridspec_kw=_fixed_grid((5.6, 3.6)))
     e = np.array([np.inf if isinstance(v, str) or v is None else v for v in energies], float)
     k = np.arange(e.size)
     finite = np.isfinite(e)
@@ -235,8 +251,8 @@ def mode_figure(network, region, nu, u, *, title="", margin=MARGIN):
     """
     nu, u = np.atleast_1d(nu), np.atleast_2d(u)
     if network.ndim == 1:
-        fig = _figure(figsize=(6.4, 3.8), layout="constrained")
-        ax = fig.subplots()
+        fig = _figure(figsize=(6.4, 3.8))
+        ax = fig.subplots(gridspec_kw=_fixed_grid((6.4, 3.8)))
         x = np.asarray(network.coords(region.indices))[:, 0]
         for k in range(len(nu)):
             sign = np.sign(u[k][np.argmax(np.abs(u[k]))]) or 1.0
@@ -281,8 +297,8 @@ def region_figure(network, region, *, region_b=None, title="", margin=MARGIN):
     colours = ["#f4f4f4", "#1f77b4", "#d62728"]
     grid, where, offset = _slice(network, region, 1.0,
                                  None if region_b is None else (region_b, 2.0), margin=margin)
-    fig = _figure(figsize=(5.0, 4.4), layout="constrained")
-    ax = fig.subplots()
+    fig = _figure(figsize=(5.0, 4.4))
+    ax = fig.subplots(gridspec_kw=_fixed_grid((5.0, 4.4)))
     ax.imshow(grid, origin="lower", cmap=ListedColormap(colours), vmin=-0.5, vmax=2.5,
               interpolation="nearest", extent=_extent(grid, offset))
     handles = [Patch(color=colours[1], label=f"A ({region.size} sites)")]
