@@ -109,6 +109,19 @@ def dense_correlators(network, *, temperature=0.0):
     budget = backward_error(res, u, res_round, scale)
     del res
     beta = budget["residual"] + budget["rounding"] + m_beta
+    # X̂ = ½ U D Uᵀ is formed with U, not with its orthogonal polar factor Q (U = QS, Φ = S − I,
+    # ‖Φ‖ ≤ ‖UᵀU − I‖ ≤ η).  When eigenvalues cluster η reaches hundreds of ε (seen: 7.9e-14
+    # on a 6-site network), far above the √N·ε rounding model, so it gets its own term:
+    # S D S − D = ΦD + DΦ + ΦDΦ and ±(ΦD + DΦ) ⪯ εD + ΦDΦ/ε for any ε > 0, so
+    # ±(X̂ − QDQᵀ) ⪯ εQDQᵀ + (1 + 1/ε)η²‖D‖ I, and with QDQᵀ ⪯ X̂ + H:
+    # H_polar = (ε X̂ + (1 + 1/ε) η² ‖D‖ I) / (1 − ε), relative to X̂ itself.  ε is chosen to
+    # balance the two parts' effect on t (tr(ε X̂ P) against η²‖D‖ tr P / ε, with
+    # tr(X̂P) ≈ n/4 and tr P ≈ n·mean P_ii); any ε in (0, 1) is rigorous.
+    eta = budget["orthogonality_model"]
+    x_norm = 0.5 * float(np.max(coth / omega))
+    p_norm = 0.5 * float(np.max(omega * coth))
+    x_err += (2 * eta + eta * eta) * x_norm
+    p_err += (2 * eta + eta * eta) * p_norm
     if beta < lam[0] / 2:
         # At T > 0, f(t) = coth(√t/2T)/√t = 2T Σ_n 1/(t + (2πnT)²) is operator monotone
         # decreasing and g(t) = √t coth(√t/2T) = 2T Σ_n t/(t + (2πnT)²) increasing (Matsubara
@@ -120,10 +133,17 @@ def dense_correlators(network, *, temperature=0.0):
         hx = 0.5 * (coth_factor(w_lo, temperature) / w_lo - coth / omega)
         hp = 0.5 * (omega * coth - g_lo)
         ux = up = u
+        # H itself is written with U: U h Uᵀ − Q h Qᵀ ≤ (2η + η²)‖h‖ in norm
+        x_shift = (2 * eta + eta * eta) * float(np.max(hx))
+        p_shift = (2 * eta + eta * eta) * float(np.max(hp))
+        mi2 = mh2 = 1.0
         if m_half is not None:
-            # congruence keeps the Loewner order: H_X = M^{-1/2} H M^{-1/2}
+            # congruence keeps the Loewner order: H_X = M^{-1/2} (H + cI) M^{-1/2}, and
+            # M^{-1} ⪯ ‖M^{-1/2}‖² I
             ux, up = m_inv_half @ u, m_half @ u
-        dominant = (ux, hx, up, hp)
+            mi2 = float(np.linalg.norm(m_inv_half, 2)) ** 2
+            mh2 = float(np.linalg.norm(m_half, 2)) ** 2
+        dominant = [ux, hx, up, hp, x_shift * mi2, p_shift * mh2, eta, x_norm * mi2, p_norm * mh2]
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -131,6 +151,8 @@ def dense_correlators(network, *, temperature=0.0):
         p_err *= np.linalg.norm(m_half, 2) ** 2
     x = 0.5 * (x + x.T)
     p = 0.5 * (p + p.T)
+    if dominant is not None:
+        dominant = tuple(dominant) + (x, p)
     return x, p, {"omega_min": float(omega[0]), "omega_max": float(omega[-1]),
                   "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature,
                   "backward_error": beta, "backward_error_budget": dict(budget, kinetic=m_beta),
@@ -181,8 +203,9 @@ def backward_error(res, u, res_round, scale):
     that independent roundings grow like √N·ε with high probability): the residual's rounding
     as a matrix is taken as twice its largest column bound (iid-noise matrices have
     ‖·‖₂ ≈ 2 × column norm; the column bounds themselves are proofs for sparse K); the rounding
-    of forming ½UDUᵀ, and the difference between U and its orthogonal polar factor Q in it
-    (both rounding-level), are taken together as an equivalent ‖E‖ of √N·ε·‖K‖.
+    of forming ½UDUᵀ is taken as an equivalent ‖E‖ of √N·ε·‖K‖.  The difference between U and
+    its orthogonal polar factor Q in it is not a model: :func:`dense_correlators` adds
+    (2η + η²)‖D‖ for it.
     """
     n = u.shape[0]
     gamma = n * EPS / (1 - n * EPS)
@@ -194,7 +217,12 @@ def backward_error(res, u, res_round, scale):
     r_norm = min(fro, by_sums, by_gram)
     g = u.T @ u
     g[np.diag_indices(n)] -= 1.0
-    eta = float(np.linalg.norm(g)) + n * gamma
+    g_fro = float(np.linalg.norm(g))
+    eta = g_fro + n * gamma
+    # ‖G − I‖₂ ≤ ‖(G − I)²‖_F^{1/2} (+ the rounding of the square, γ_N‖G − I‖_F² by
+    # Cauchy–Schwarz): a factor up to N^{1/4} below the Frobenius norm
+    g_sq = float(np.linalg.norm(g @ g))
+    gram_dev = min(g_fro, math.sqrt(g_sq + gamma * g_fro ** 2))
     del g
     if eta >= 0.5:
         raise ValueError(f"the eigenvectors of M^-1/2 V M^-1/2 lost orthogonality (‖UᵀU − I‖ up to "
@@ -204,6 +232,9 @@ def backward_error(res, u, res_round, scale):
     rounding_res = 2.0 * float(np.max(res_round))
     return {"residual": (r_norm + rounding_res) * c, "residual_norm": r_norm,
             "residual_rounding": rounding_res, "orthogonality": eta,
+            # model (Higham & Mary 2019): each entry of fl(UᵀU) is off by ~√N·ε, the matrix of
+            # such independent errors by ~2√N times that in 2-norm
+            "orthogonality_model": gram_dev + 2 * n * EPS,
             "rounding": float(math.sqrt(n) * EPS * scale)}
 
 
@@ -216,8 +247,20 @@ def dominant_blocks(info, rows, cols=None):
         return None, None
     rows = np.asarray(rows)
     cols = rows if cols is None else np.asarray(cols)
-    ux, hx, up, hp = info["dominant"]
-    return (ux[rows] * hx) @ ux[cols].T, (up[rows] * hp) @ up[cols].T
+    ux, hx, up, hp, x_shift, p_shift, eta, x_norm, p_norm, x, p = info["dominant"]
+    identity = (rows[:, None] == cols[None, :]).astype(float)  # I[rows, cols]
+    hx_block = (ux[rows] * hx) @ ux[cols].T + x_shift * identity
+    hp_block = (up[rows] * hp) @ up[cols].T + p_shift * identity
+    if eta > 0:
+        # the polar term of :func:`dense_correlators`, with ε balanced on these rows
+        diag_x, diag_p = np.diag(x)[rows], np.diag(p)[rows]
+        for block, own, other_diag, norm in ((hx_block, x, diag_p, x_norm),
+                                             (hp_block, p, diag_x, p_norm)):
+            eps_ = min(0.5, eta * math.sqrt(4.0 * norm * max(float(np.mean(other_diag)), 0.0)))
+            if eps_ > 0:
+                block += (eps_ * own[np.ix_(rows, cols)]
+                          + (1 + 1 / eps_) * eta * eta * norm * identity) / (1 - eps_)
+    return hx_block, hp_block
 
 
 class DenseBackend(CorrelatorBackend):
