@@ -200,3 +200,24 @@ def test_block_method_uses_restricted_solver_above_limit(monkeypatch):
                                                    + ref.renyi_error_bound["2"])
     # the restricted solver omits a tail (its bound ~1e-7 … 1e-6 at tol 1e-10); dense is tighter
     assert ref.error_bound < res.error_bound < 2e-6
+
+
+@pytest.mark.parametrize("target", [1e-3, 1e-5])
+def test_meets_requested_entropy_accuracy(target):
+    """The Lanczos run continues until its certified bound meets ``entropy_tol`` (where the
+    blocks' own errors allow it), and the bound covers the difference to the dense spectrum of
+    the same blocks (computed reference)."""
+    net = arealaw.hypercubic((50, 50), mass=0.05)
+    b = get_backend("spectral").blocks(net, arealaw.ball(net, 15, center=(25, 25)).indices,
+                                       tol=1e-12)
+    ref = symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error)
+    ref_bound = entropy_error_bound(ref)
+    assert ref_bound < 0.1 * target
+    spec = restricted_spectrum(b.x, b.p, entropy_tol=target, x_error=b.x_error,
+                               p_error=b.p_error)
+    assert spec.info["restricted"]
+    bound = entropy_error_bound(spec)
+    assert bound <= target
+    assert abs(von_neumann_entropy(spec) - von_neumann_entropy(ref)) <= bound + ref_bound
+    # and it is not far above the difference it certifies (a tail of Jensen type)
+    assert abs(von_neumann_entropy(spec) - von_neumann_entropy(ref)) >= 1e-3 * bound

@@ -7,6 +7,8 @@ transverse momenta) implement the same two calls directly.  ``method='auto'`` as
 for an :class:`~arealaw.correlators.Assessment` and takes the cheapest that can serve.
 """
 
+import math
+
 import numpy as np
 
 from .._arguments import unknown_name
@@ -116,9 +118,17 @@ def restricted_block_spectrum(backend, network, rows, tol):
         ops.trace = (t, e + ex * float(np.abs(pa).sum()) + ep * float(np.abs(xa).sum())
                      + n * n * ex * ep)
         norm_errors = (0.0, 0.0)
+    fro = {}
+    if "entry_x_error" in ops.info:
+        # the entry bounds describe the blocks' error up to the operators' own rounding (a
+        # spectral norm r): ‖F‖_F ≤ n·e + √n·r
+        n = float(ops.x.shape[0])
+        rx, rp = ops.info.get("operator_rounding", (0.0, 0.0))
+        fro = {"x_frobenius": n * ops.info["entry_x_error"] + math.sqrt(n) * rx,
+               "p_frobenius": n * ops.info["entry_p_error"] + math.sqrt(n) * rp}
     return restricted_spectrum(ops.x, ops.p, entropy_tol=tol, x_error=ops.x_error,
                                p_error=ops.p_error, trace=ops.trace, info=ops.info,
-                               trace_norm_errors=norm_errors)
+                               trace_norm_errors=norm_errors, **fro)
 
 
 def block_spectrum(b, info=None):

@@ -109,6 +109,14 @@ def entropy_error_bound(spec, order=1.0):
     lo = np.maximum(spec.t - spec.t_error, 0.0)
     hi = spec.t + spec.t_error
     err = _weighted(spec, mode_entropy(hi, order) - mode_entropy(lo, order))
+    if spec.nuclear_error is not None and spec.t.size and np.all(spec.t > 0):
+        # s concave: the secant slope over [t − min(δ, t), t] bounds every change per unit,
+        # so the kept modes cost at most (Σ w|δt|)·(largest such slope)
+        s = mode_entropy(spec.t, order)
+        reach = np.minimum(spec.t_error, spec.t)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            slope = np.where(reach > 0, (s - mode_entropy(lo, order)) / reach, 0.0)
+        err = min(err, float(spec.nuclear_error) * float(np.max(slope)))
     if spec.tail is not None and spec.tail.count > 0 and spec.tail.sum_t > 0:
         mean = min(spec.tail.sum_t / spec.tail.count, spec.tail.max_t)
         err += spec.tail.count * float(mode_entropy(np.array([mean]), order)[0])

@@ -58,6 +58,8 @@ class TailAssessment:
     consistent: bool = False  # the deficit could hold only modes below the threshold
     deficit: float = 0.0    # trace deficit beyond the kept Ritz values
     floor: float = 0.0      # the part of tail_sum from rounding and block errors
+    floor_bound: float = 0.0  # the bound a zero deficit would leave (more vectors cannot beat it)
+    kept_bound: float = 0.0   # entropy error of the kept modes (Ritz rounding, block errors)
 
 
 @dataclass(frozen=True)
@@ -72,6 +74,7 @@ class _Operators:
     trace_t: float
     trace_err: float
     block_err: float
+    block_fro: float = math.inf   # Frobenius-type bound: Σ_{i≤k} |δt_i| ≤ √k·block_fro
 
 
 @dataclass(frozen=True)
@@ -205,7 +208,7 @@ def _band_ritz(diag_blocks, sub_blocks, b):
 
 def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None, trace=None,
                         x_error=0.0, p_error=0.0, block_size=None, maxiter=None, seed=0,
-                        info=None, trace_norm_errors=None):
+                        info=None, trace_norm_errors=None, x_frobenius=None, p_frobenius=None):
     """Symplectic modes of a region with t = ν² − ¼ above a threshold, from X_A, P_A as operators.
 
     Parameters
@@ -214,15 +217,17 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
         The region blocks X_A, P_A (symmetric positive definite); only products are used.
     entropy_tol : float
         Requested accuracy of the entropy (absolute; not the accuracy of X_A, P_A, which
-        their producer controls and reports through ``x_error``, ``p_error``).  The iteration stops once the certified bound is
-        below it, or once the trace deficit is negligible beside the floor that rounding and
-        the block errors already set (more vectors could not lower the bound), or when the
-        deficit stalls with every mode above the threshold accounted for.  A deficit that
+        their producer controls and reports through ``x_error``, ``p_error``).  The iteration
+        stops once the certified bound (omitted tail plus the kept modes' errors) is below it,
+        or once it is within 1.5× of the floor that rounding and the block errors already set
+        (more vectors could not lower it further), or when the deficit stalls for three
+        checkpoints with every mode above the threshold accounted for.  A deficit that
         stalls while it still shows missed modes restarts with a doubled block.
     threshold : float, optional
-        Modes with t above it are kept (default ``entropy_tol / 100``: the omitted tail's bound,
-        about (its Σt)·(1 + ln((n − k)/Σt)), is then near ``entropy_tol`` unless rounding
-        dominates).
+        Modes with t above it are kept.  The default starts at ``entropy_tol / 100`` and is
+        lowered tenfold (down to 64·ε) whenever every mode above it is found but the omitted
+        tail's bound, about (its Σt)·(1 + ln((n − k)/Σt)), still exceeds ``entropy_tol``; an
+        explicit threshold is kept as given.
     trace : (float, float), optional
         (tr(X_A P_A) − n/4, bound on its error) if the caller knows it cheaply; otherwise it is
         formed by :func:`operator_trace`.
@@ -231,6 +236,9 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
         spectral-norm errors (rx, rp) of the operators beyond those entries (FFT rounding).
     x_error, p_error : float
         Spectral-norm error bounds of the blocks (as in :func:`~arealaw.symplectic_spectrum`).
+    x_frobenius, p_frobenius : float, optional
+        Frobenius-norm error bounds of the blocks (default √n times the spectral ones); entry
+        bounds e give n·e.  They certify the kept modes' total through Hoffman–Wielandt.
     block_size : int, optional
         Lanczos block size (default: 8 … 64 from n).
     maxiter : int, optional
@@ -294,6 +302,12 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
     xn = _norm_bound(x_op, xa, n, rng) if (p_error or x_error) else 0.0
     pn = _norm_bound(p_op, pa, n, rng) if (p_error or x_error) else 0.0
     block_err = xn * p_error + pn * x_error + x_error * p_error
+    # Hoffman–Wielandt: the top k modes move by at most √k·‖Δ‖_F in total, with
+    # ‖Δ‖_F ≤ ‖P‖‖F‖_F + ‖X + F‖‖G‖_F for the two symmetric forms P^½XP^½ and LᵀPL;
+    # entry bounds give ‖F‖_F ≤ n·e_x (far below √n·‖F‖₂ = n^{3/2}·e_x)
+    x_fro = math.sqrt(n) * x_error if x_frobenius is None else float(x_frobenius)
+    p_fro = math.sqrt(n) * p_error if p_frobenius is None else float(p_frobenius)
+    block_fro = (pn * x_fro + (xn + x_error) * p_fro) if (x_fro or p_fro) else 0.0
     # the exact modes' total differs from the blocks' by at most δX·tr P + δP·tr X + n·δX·δP
     # (P, X ⪰ 0): far below n·(per-mode block error) when ‖X_A‖ ≫ tr X_A / n (massless)
     if trace_norm_errors is not None:
@@ -310,11 +324,11 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
         trace_err = trace_err + n * block_err
 
     ops = _Operators(xa=xa, x_op=x_op, pa=pa, p_op=p_op, n=n, trace_t=trace_t,
-                     trace_err=trace_err, block_err=block_err)
+                     trace_err=trace_err, block_err=block_err, block_fro=block_fro)
     attempts = []
     while True:
         run = _block_lanczos(ops, block_size=b, max_blocks=max_blocks, threshold=tau,
-                             entropy_tol=tol, rng=rng)
+                             entropy_tol=tol, rng=rng, adaptive=threshold is None)
         result, status = run.tail, run.status
         attempts.append((b, run.krylov_dim, status.value))
         if status is LanczosStatus.DONE:
@@ -348,10 +362,13 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
                        "tail_bound": result.bound, "modes_kept": int(k),
                        "dropped_directions": int(run.dropped),
                        "attempts": attempts})
+    # Σ_{i≤k}|δt_i|: Ritz rounding per mode, block errors by Hoffman–Wielandt (or Weyl)
+    nuclear = k * result.rho + min(k * block_err, math.sqrt(k) * ops.block_fro)
+    nuclear += float(np.sum(-t_kept[neg]))
     return SymplecticSpectrum(t=np.maximum(t_kept, 0.0), t_error=t_err, weights=np.ones(k),
                               tail=Tail(count=float(n - k), sum_t=tail_sum,
                                         max_t=max(tail_sum, 0.0)),
-                              clamped=int(neg.sum()), info=extra_info)
+                              clamped=int(neg.sum()), info=extra_info, nuclear_error=nuclear)
 
 
 def _dense_fallback(x, p, xa, pa, x_error, p_error, info, attempts):
@@ -386,13 +403,15 @@ def _dense_ritz(diag_blocks, sub_blocks, full_cols, b):
     return scipy.linalg.eigvalsh(t)[::-1]
 
 
-def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng):
+def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng, adaptive=True):
     """Block Lanczos on C − ¼I in the P inner product with checkpoints every ~10 % of growth.
 
     ``ops`` holds the operators and the trace; returns a :class:`_LanczosRun`.
     """
     xa, x_op, pa, p_op, n = ops.xa, ops.x_op, ops.pa, ops.p_op, ops.n
     b, tau, tol = block_size, threshold, entropy_tol
+    # an explicit threshold is kept; the default one may be lowered to meet tol
+    tau_min = min(tau, 64 * EPS) if adaptive else tau
     cap_cols = min(n + b, max_blocks * b + b)
     require_memory(2 * 8.0 * n * cap_cols, f"a restricted spectrum with up to {cap_cols} "
                    f"Lanczos vectors of {n} sites", "use a smaller region or a larger tol")
@@ -438,13 +457,23 @@ def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng):
                  _band_ritz(diag_blocks, sub_blocks, b))
         scale = max(scale, abs(float(theta[0])) + 0.25)
         result = _assess(theta, tau, n, m, ops, scale, offband)
+        # every mode above τ is found but the tail below it still holds more than tol: count
+        # lower Ritz values as modes (τ/10 at a time, down to rounding) instead of stopping
+        while (result.valid and result.consistent and tau > tau_min
+               and result.bound + result.kept_bound > tol):
+            tau = max(tau / 10, tau_min)
+            result = _assess(theta, tau, n, m, ops, scale, offband)
         history.append((m, result.k, result.deficit))
         if not result.valid:
             continue
-        # done when the bound meets tol, or when the unconverged/omitted part is small beside
-        # what rounding and block errors already cost (more vectors could not lower the bound)
-        if result.bound <= tol or (result.consistent and (
-                result.deficit <= 0.01 * result.floor or _stagnated(history, 1))):
+        # done when the bound meets tol, or when what rounding and block errors already cost
+        # leaves little to gain (more vectors could lower the bound by less than a third), or
+        # when the deficit has stopped falling for several checkpoints with every mode above
+        # the threshold accounted for (the Lanczos process has nothing more to find)
+        total = result.bound + result.kept_bound
+        if total <= tol or (result.consistent and (
+                total <= 1.5 * (result.floor_bound + result.kept_bound)
+                or _stagnated(history, 3))):
             return _LanczosRun(result, m, dropped_total, LanczosStatus.DONE)
         if _stagnated(history, 3):
             return _LanczosRun(result, m, dropped_total, LanczosStatus.INCONSISTENT)
@@ -458,6 +487,7 @@ def _assess(theta, tau, n, m, ops, scale, offband):
     holds) the one with the smallest bound is taken.
     """
     trace_t, trace_err, block_err = ops.trace_t, ops.trace_err, ops.block_err
+    block_fro = ops.block_fro
     k_tau = min(int(np.count_nonzero(theta >= tau)), n)
     # rounding of the Ritz values: ‖T − exact compression‖ from orthogonality loss and the
     # dropped off-band coefficients
@@ -466,7 +496,8 @@ def _assess(theta, tau, n, m, ops, scale, offband):
     deficit = trace_t - np.concatenate([[0.0], np.cumsum(theta[:k_tau])])
     count = n - ks
     # Σ_{i≤k} t*_i ≥ Σ θ_i − k·(ρ + block error); the trace error already holds the blocks'
-    tail_sum = np.maximum(deficit, 0.0) + trace_err + ks * (rho + block_err)
+    kept_moves = ks * rho + np.minimum(ks * block_err, np.sqrt(ks) * block_fro)
+    tail_sum = np.maximum(deficit, 0.0) + trace_err + kept_moves
     smallest = np.concatenate([[np.inf], theta[:k_tau]])
     mean = np.where(count > 0, tail_sum / np.maximum(count, 1), 0.0)
     # Jensen puts the worst case in the tail while the deficit per omitted mode stays below the
@@ -480,14 +511,42 @@ def _assess(theta, tau, n, m, ops, scale, offband):
     bounds = np.where(admissible & (count > 0) & (tail_sum > 0),
                       count * mode_entropy(mean), 0.0)
     bounds = np.where(admissible, bounds, np.inf)
-    k = int(np.argmin(bounds[::-1]))
+    # the kept modes' own error, as entropy_error_bound will count it (per mode, both sides):
+    # a mode with θ below its error δ costs more kept than in the tail, so k minimises the sum
+    kept_cost = _kept_cost(np.maximum(theta[:k_tau], 0.0), rho + block_err, kept_moves)
+    k = int(np.argmin((bounds + kept_cost)[::-1]))
     k = k_tau - k                                   # the largest k among equal bounds
     # if every mode above τ were found, the deficit could hold only modes below τ
     consistent = deficit[k_tau] <= count[k_tau] * tau + trace_err + k_tau * rho
+    floor = float(tail_sum[k] - max(deficit[k], 0.0))
+    floor_bound = (float(count[k] * mode_entropy(np.array([floor / count[k]]))[0])
+                   if count[k] > 0 and floor > 0 else 0.0)
+    kept_bound = float(kept_cost[k])
     return TailAssessment(k=k, t=theta[:k], rho=rho, tail_sum=float(tail_sum[k]),
                           bound=float(bounds[k]), valid=True, consistent=bool(consistent),
-                          deficit=float(max(deficit[k], 0.0)),
-                          floor=float(tail_sum[k] - max(deficit[k], 0.0)))
+                          deficit=float(max(deficit[k], 0.0)), floor=floor,
+                          floor_bound=floor_bound, kept_bound=kept_bound)
+
+
+def _kept_cost(kept, delta, moves):
+    """Entropy error of the top k kept modes for every k (as entropy_error_bound counts it).
+
+    Per mode at most the secant s(θ+δ) − s(θ−δ); in total at most (Σ_{i≤k}|δt_i|)·max slope
+    (s is concave: the secant slope over [θ − min(δ, θ), θ] bounds every change per unit), with
+    ``moves[k]`` ≥ Σ_{i≤k}|δt_i| (Ritz rounding and Hoffman–Wielandt).
+    """
+    s = mode_entropy(kept)
+    down = s - mode_entropy(np.maximum(kept - delta, 0.0))
+    secants = mode_entropy(kept + delta) - mode_entropy(np.maximum(kept - delta, 0.0))
+    reach = np.minimum(delta, kept)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        slope = np.where(reach > 0, down / np.where(reach > 0, reach, 1.0), np.inf)
+    zero = np.zeros(1)
+    by_secants = np.concatenate([zero, np.cumsum(secants)])
+    max_slope = np.concatenate([zero, np.maximum.accumulate(slope)]) if kept.size else zero
+    with np.errstate(invalid="ignore"):
+        by_total = np.where(np.isfinite(max_slope), moves[:kept.size + 1] * max_slope, np.inf)
+    return np.minimum(by_secants, by_total)
 
 
 def _stagnated(history, checkpoints):
