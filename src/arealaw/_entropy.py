@@ -240,7 +240,7 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
         spectrum=spectra[0], info=_info(spectra[0]), temperature=temperature)
     if "n_radial" in spectra[0].info and "lmax" in spectra[0].info:
         # partial waves: the network is its N radial sites, and each of the lmax + 1 waves
-        # summed exactly has one mode per shell of the ball (the l-tail is integrated, and the
+        # summed exactly has one mode per shell of the ball (the l-tail is bracketed, and the
         # (2l+1)-fold degeneracies are weights, not extra modes computed)
         waves = int(spectra[0].info["lmax"]) + 1
         res.sites, res.modes = int(spectra[0].info["n_radial"]), region.size * waves
@@ -326,20 +326,23 @@ def radial_entropy(n_radial, n_shells, *, dim=3, mass=0.0, renyi=(), lmax=None,
     renyi : sequence
         Rényi orders besides von Neumann.
     lmax : int, optional
-        Fixed angular-momentum cut-off (the rest is only bounded).  Default: sum exactly up to
-        L = max(8n, 48) and integrate the tail in ln l until it is known to ``rtol``.
+        Fixed angular-momentum cut-off: the value is the sum up to ``lmax`` and the whole tail
+        is in the bound.  Default: the smallest L whose proven tail bracket has half-width at
+        most max(``tol``, ``rtol``·S)/2 (lowered where computed sectors' rounding dominates),
+        with the bracket's midpoint added to the value.
     rtol : float
         Relative accuracy aimed at for the l-sum.
     tol : float
-        Absolute accuracy floor of the l-sum.
+        Absolute accuracy of the l-sum (the larger of the two targets counts).
     n_jobs : int, optional
         joblib workers for the sectors (default: parallel only when it pays).
 
     Returns
     -------
     EntropyResult
-        ``info['lmax']`` is the explicit cut-off, ``info['l_tail_estimate']`` the integrated tail,
-        and ``error_bound`` includes the bound on the l-sum.
+        ``info['lmax']`` is the explicit cut-off, ``info['l_tail_lower']`` and
+        ``info['l_tail_upper']`` the proven bracket of the tail, ``info['l_tail_estimate']`` the
+        part of the value that stands for it, and ``error_bound`` includes the tail's bound.
 
     Examples
     --------

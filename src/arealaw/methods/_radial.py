@@ -26,7 +26,7 @@ import numpy as np
 
 from .._errors import UnsupportedMethodError
 from .._costs import cost
-from ..spectrum._measures import mode_entropy, von_neumann_entropy
+from ..spectrum._measures import entropy_error_bound, mode_entropy, von_neumann_entropy
 from ._registry import Method
 from ._wave_tail import WaveTail, degeneracy
 from ..network._network import OscillatorNetwork
@@ -125,6 +125,13 @@ def _l_sum(network, n, *, lmax, rtol, atol, n_jobs):
     ls = np.arange(cutoff + 1)
     specs = _sectors(nr, n, ls, dim, mass, n_jobs)
     weights = degeneracy(ls, dim)
+    if lmax is None:
+        # each computed sector adds its rounding bound (about constant, times g_l, so growing
+        # with l) while the tail's bracket shrinks like L^-6: keep the cut-off where their sum
+        # is least, which drops computed sectors whose bracket is narrower than their rounding
+        numerics = np.cumsum([entropy_error_bound(s) * w for s, w in zip(specs, weights)])
+        cutoff = int(np.argmin(numerics + tail.half_gaps()[:cutoff + 1]))
+        specs, weights, ls = specs[:cutoff + 1], weights[:cutoff + 1], ls[:cutoff + 1]
     parts = list(zip(specs, weights.tolist()))
     s_explicit = float(sum(von_neumann_entropy(s) * w for s, w in parts))
     tail_spec, order_error = _tail_part(tail, cutoff, lmax is not None)

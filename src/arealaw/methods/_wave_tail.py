@@ -278,10 +278,14 @@ class WaveTail:
         return (float(lo[k]) * (1 - _SUM_MARGIN),
                 float(up[k]) * (1 + _SUM_MARGIN) + self.far_upper(order))
 
+    def half_gaps(self):
+        """½(upper − lower) of the von Neumann tail for every cut-off L = 0 … l_end."""
+        lo, up = self._arrays(1.0)
+        return 0.5 * (up - lo) + 0.5 * self.far_upper(1.0)
+
     def cutoff(self, target, *, start=0, limit=None):
         """Smallest L ≥ start with ½(upper − lower) of the von Neumann tail ≤ target."""
-        lo, up = self._arrays(1.0)
-        half = 0.5 * (up - lo) + 0.5 * self.far_upper(1.0)
+        half = self.half_gaps()
         limit = self.l_end // 16 if limit is None else min(limit, self.l_end // 16)
         ok = np.nonzero(half[start:limit + 1] <= target)[0]
         return int(start + ok[0]) if ok.size else int(limit)
