@@ -149,7 +149,7 @@ CORPUS = [
                                            "1000000"], ["needs about", "available"], 2),
     ("cli-huge-disorder", "cli", E + ["--shape", "1000", "1000", "1000", "--mass", "0.1",
                                       "--mass-disorder", "0.5", "--box", "3"],
-     ["assembling V", "needs about", "uniform"], 2),
+     ["no method fits in memory", "needs about", "uniform"], 2),
     ("cli-huge-cube", "cli", E + ["--shape", "1000", "1000", "1000", "--box", "200", "200",
                                   "200"], ["no method fits in memory", "smaller region"], 2),
     # -- arealaw run options

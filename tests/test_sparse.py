@@ -252,3 +252,39 @@ def test_uniform_lattice_agrees_with_spectral_backend():
     dp = np.linalg.norm(bs.p - bp.p, 2)
     assert dx <= 1e-10 and dp <= 1e-10
     assert dx <= bs.x_error + bp.x_error and dp <= bs.p_error + bp.p_error
+
+
+@pytest.mark.parametrize("kw", [
+    {"mass": 0.3, "mass_disorder": 0.5, "seed": 1},
+    {"mass": 0.3, "coupling_disorder": 0.6, "seed": 2, "boundary": ("dirichlet", "periodic")},
+    {"mass": 0.2, "mass_disorder": 0.4, "coupling_disorder": 0.3, "seed": 3,
+     "inertia": np.linspace(1, 2, 42)},
+], ids=["mass", "coupling", "both-inertia"])
+def test_deferred_disordered_lattice_equals_the_assembled_one(kw, monkeypatch):
+    """Above the deferral threshold a disordered lattice draws at assembly: the same V, M, and an
+    assessment from the description alone (pencil bounds) that does not assemble it."""
+    import arealaw.network._lattices as lattices
+    eager = hypercubic((7, 6), **kw)
+    monkeypatch.setattr(lattices, "DEFERRED_ASSEMBLY_SITES", 10)
+    lazy = hypercubic((7, 6), **kw)
+    assert lazy.is_deferred
+    a = SparseBackend().assess(lazy, 4, tol=1e-10)
+    assert a.ok and lazy.is_deferred
+    lo, hi = lazy.lattice.pencil_bounds()
+    v = lazy.potential.toarray()
+    m = np.eye(42) if lazy.kinetic is None else lazy.kinetic.toarray()
+    assert_allclose(v, eager.potential.toarray(), rtol=0, atol=0)
+    w = np.linalg.eigvalsh(np.linalg.solve(np.linalg.cholesky(m), v)
+                           @ np.linalg.inv(np.linalg.cholesky(m)).T)
+    # the description's bounds contain the spectrum of M^-1 V (rounding allowance 1e-12)
+    assert lo <= w[0] * (1 + 1e-12) and w[-1] <= hi * (1 + 1e-12)
+
+
+def test_huge_disordered_lattice_is_refused_without_assembly():
+    """10^9 sites with disorder: refused from shape and options (V, masses never drawn)."""
+    from arealaw import InsufficientMemoryError
+    net = hypercubic((1000, 1000, 1000), mass=0.3, mass_disorder=0.5, seed=1)
+    assert net.is_deferred
+    with pytest.raises(InsufficientMemoryError, match="no method fits in memory.*uniform"):
+        entropy(net, box(net, 3))
+    assert net.is_deferred

@@ -15,8 +15,9 @@ __all__ = ["BOUNDARIES", "HypercubicLattice", "hypercubic"]
 
 BOUNDARIES = ("dirichlet", "periodic", "open")
 
-#: Uniform lattices with more sites than this defer assembling V until a method asks for it;
-#: where it would not fit in memory, ``network.potential`` is then None (V is not formed).
+#: Lattices with more sites than this defer assembling V (and drawing their disorder) until a
+#: method asks for it, so that methods assess them from the description alone; where V would not
+#: fit in memory, ``network.potential`` is then None (V is not formed).
 DEFERRED_ASSEMBLY_SITES = 2**22
 
 
@@ -25,7 +26,9 @@ class HypercubicLattice:
     """Description of a hypercubic lattice (what :func:`hypercubic` built).
 
     ``shape`` entries are ints or ``math.inf``; ``mass`` is a float, or an array of per-site masses
-    when the lattice is not uniform; ``inertia`` is the diagonal of M (float or per-site array).
+    (given, or drawn with ``mass_disorder``; a lattice above ``DEFERRED_ASSEMBLY_SITES`` keeps
+    the given mass and draws at assembly); ``inertia`` is the diagonal of M (float or per-site
+    array).
     """
 
     shape: tuple
@@ -51,6 +54,32 @@ class HypercubicLattice:
             and self.mass_disorder == 0
             and self.coupling_disorder == 0
         )
+
+    def pencil_bounds(self):
+        """(lo, hi) with lo ≤ ω² ≤ hi (up to rounding) for every eigenvalue ω² of M⁻¹V, from the
+        description alone: what cost estimates use where V is not assembled.
+
+        V = diag(m_i²) + Σ_bonds J_b (e_i − e_j)(e_i − e_j)ᵀ + Σ_walls J e_i e_iᵀ is a sum of
+        positive semidefinite terms, and every J_b ≥ (1 − w)·J, so V dominates
+        m_min² I + (1 − w)·(the uniform lattice's −Δ), whose smallest eigenvalue is the plane-wave
+        sum Σ_(Dirichlet axes) 4J sin²(π/(2(n+1))); Gershgorin gives
+        λ_max(V) ≤ m_max² + 4 Σ_axes J (1 + w).  Dividing by the extreme inertias bounds the pencil.
+
+        Examples
+        --------
+        >>> from arealaw import hypercubic
+        >>> lo, hi = hypercubic((5,), mass=1.0).lattice.pencil_bounds()
+        >>> round(lo, 4), hi
+        (1.2679, 5.0)
+        """
+        masses, inertia = np.asarray(self.mass, dtype=float), np.asarray(self.inertia, dtype=float)
+        w = self.coupling_disorder
+        walls = sum(4 * j * math.sin(math.pi / (2 * (n + 1))) ** 2
+                    for n, j, b in zip(self.shape, self.couplings, self.boundaries)
+                    if b == "dirichlet")
+        lo = float(masses.min()) ** 2 + (1 - w) * walls
+        hi = (float(masses.max()) + self.mass_disorder) ** 2 + 4 * (1 + w) * sum(self.couplings)
+        return lo / float(inertia.max()), hi / float(inertia.min())
 
     def describe(self):
         """One line describing the lattice (shape, boundaries, mass, couplings, disorder)."""
@@ -159,7 +188,10 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
         raise ValueError("an infinite lattice must be uniform: scalar mass and inertia, no disorder")
     n_sites = None if infinite else int(np.prod(shape))
     uniform = not (np.ndim(mass) or np.ndim(inertia) or mass_disorder or coupling_disorder)
-    if not infinite and (not uniform or n_sites <= DEFERRED_ASSEMBLY_SITES):
+    # Large lattices defer assembly (disorder draws included) until a method reads V, so that
+    # assessments refuse from the description within a second instead of after assembling
+    deferred = not infinite and n_sites > DEFERRED_ASSEMBLY_SITES
+    if not infinite and not deferred:
         # V is assembled now: refuse before allocating anything when it cannot fit
         require_memory(assembly_bytes(n_sites, d), f"assembling V of {n_sites:.3g} lattice sites",
                        "use a smaller lattice" + ("" if uniform else
@@ -168,9 +200,18 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
     masses = _site_values(mass, shape, n_sites, "mass", allow_zero=True)
     inertias = _site_values(inertia, shape, n_sites, "inertia", allow_zero=False)
     rng = np.random.default_rng(seed)
-    if mass_disorder:
-        masses = np.broadcast_to(masses, (n_sites,)) + mass_disorder * rng.random(n_sites)
-    _check_zero_mode(masses, boundaries, shape)
+
+    def site_masses():
+        if mass_disorder:
+            return np.broadcast_to(masses, (n_sites,)) + mass_disorder * rng.random(n_sites)
+        return masses
+
+    if deferred:
+        # m_i = m + w·u_i with w > 0 is positive unless every u_i draws exactly 0
+        _check_zero_mode(np.max(masses) + mass_disorder, boundaries, shape)
+    else:
+        masses = site_masses()
+        _check_zero_mode(masses, boundaries, shape)
     spec = HypercubicLattice(
         shape=shape, mass=masses if np.ndim(masses) else float(masses), couplings=couplings,
         boundaries=boundaries, inertia=inertias if np.ndim(inertias) else float(inertias),
@@ -180,12 +221,13 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
         return OscillatorNetwork(None, lattice=spec, check=False)
 
     def matrices():
-        v = _assemble(shape, masses, couplings, boundaries, coupling_disorder, rng)
+        v = _assemble(shape, site_masses() if deferred else masses, couplings, boundaries,
+                      coupling_disorder, rng)
         kinetic = None if np.ndim(inertias) == 0 and inertias == 1.0 else sp.diags(
             np.broadcast_to(inertias, (n_sites,)).astype(float), format="csr")
         return v, kinetic
 
-    if n_sites > DEFERRED_ASSEMBLY_SITES and spec.is_uniform:
+    if deferred:
         return OscillatorNetwork(lambda: _checked_matrices(matrices, n_sites, len(shape)),
                                  lattice=spec, check=False)
     return OscillatorNetwork(*matrices(), lattice=spec, check=False)
@@ -201,8 +243,7 @@ def assembly_bytes(n_sites, d):
 
 
 def _checked_matrices(matrices, n_sites, d):
-    # about (2d + 1) stored entries per site, 8-byte values and indices, plus assembly temporaries
-    if not fits_in_memory(4 * (2 * d + 1) * 16.0 * n_sites):
+    if not fits_in_memory(assembly_bytes(n_sites, d)):
         return None, None  # V cannot be formed here; like an infinite lattice's, it stays None
     return matrices()
 

@@ -139,11 +139,13 @@ class SparseBackend(CorrelatorBackend):
         n = network.n_sites
         d = network.ndim or 3
         if network.is_deferred:
-            # Huge uniform lattices assemble V lazily: estimate from the description instead.
-            nnz = float(n) * (2 * d + 1)
-            kappa = _uniform_kappa(network.lattice)
-            if not math.isfinite(kappa):
+            # Huge lattices assemble V lazily: estimate from the description instead.
+            lat = network.lattice
+            nnz = float(n) * (2 * d + 1) + (float(n) if np.ndim(lat.inertia) else 0.0)
+            lo, hi = lat.pencil_bounds()
+            if not lo > 0:
                 return Assessment(False, ZERO_MODE)
+            kappa = hi / lo
         else:
             v = network.potential
             if v is None:
@@ -458,7 +460,7 @@ def _matsubara_poles_estimate(network, temperature):
     λ_max = 13, T = 0.005, tol = 1e-10), from a cheap upper bound of λ_max(V, M)."""
     lat = network.lattice
     if network.is_deferred:
-        hi = (float(lat.mass) ** 2 + 4 * sum(lat.couplings)) / float(lat.inertia)
+        hi = lat.pencil_bounds()[1]
     else:
         hi = gershgorin(network.potential)[1]
         m = network.kinetic
@@ -468,15 +470,6 @@ def _matsubara_poles_estimate(network, temperature):
                 return 0.0  # no cheap bound: blocks() decides from the exact interval
             hi /= m_lo
     return math.sqrt(hi) / (2 * math.pi * temperature)
-
-
-def _uniform_kappa(lat):
-    """λ_max/λ_min of a uniform hypercubic lattice from its description (plane waves)."""
-    m2 = float(lat.mass) ** 2
-    lo = m2 + sum(4 * j * math.sin(math.pi / (2 * (n + 1))) ** 2
-                  for n, j, b in zip(lat.shape, lat.couplings, lat.boundaries) if b == "dirichlet")
-    hi = m2 + 4 * sum(lat.couplings)
-    return hi / lo if lo > 0 else math.inf
 
 
 def _norm2_bound(a):
