@@ -183,7 +183,14 @@ class ResultStore:
             return conn
         except sqlite3.OperationalError:
             # a WAL store in a read-only folder cannot create its -shm file: nobody can be
-            # writing there, so reading the file as immutable is exact
+            # writing there, so reading the file as immutable is exact, unless results wait in
+            # the -wal file (a killed run), which an immutable read would silently leave out
+            wal = Path(str(self.path) + "-wal")
+            if wal.exists() and wal.stat().st_size > 0:
+                raise ValueError(f"store {str(self.path)!r} has results not yet merged from "
+                                 f"{wal.name!r}, and its folder is read-only (SQLite cannot "
+                                 "read them there); copy both files to a writable folder and "
+                                 "read the copy") from None
             return sqlite3.connect(uri + "?immutable=1", uri=True, timeout=30.0)
 
     def _identify_when_free(self, patience=60.0):
