@@ -12,6 +12,7 @@ import scipy.sparse as sp
 
 import arealaw as al
 from arealaw.cli import main
+from arealaw.workflow import fit_scaling
 
 NET = al.hypercubic((10, 10), mass=1.0)
 BIG = al.hypercubic((20, 20), mass=1.0)
@@ -50,6 +51,11 @@ def _files(d):
     with ResultStore(d / "v001.sqlite", version="0.0.1") as st:
         st.put(Case({"shape": [8], "mass": 0.5}, {"box": [4]}, version="0.0.1"),
                {"entropy": 0.1, "error_bound": 1e-12, "seconds": 0.0})
+    (d / "truncated.sqlite").write_bytes((d / "v001.sqlite").read_bytes()[:4096])
+    (d / "badresult.sqlite").write_bytes((d / "v001.sqlite").read_bytes())
+    with sqlite3.connect(d / "badresult.sqlite") as con:  # edited by another program
+        con.execute("UPDATE cases SET result = '{not json'")
+    con.close()
     (d / "s.toml").write_text(BASE + "[[family]]\nbox = {from = 2, to = 3}\n")
     (d / "afile").write_text("x")
     (d / "adir.sqlite").mkdir()
@@ -143,13 +149,15 @@ CORPUS = [
      ["--radial cannot be combined"], 2),
     ("cli-dim-alone", "cli", E + ["--shape", "8", "--box", "2", "--dim", "3"], ["--radial"], 2),
     # -- refusals before allocating (shape and options only)
+    ("cli-mass-overflow", "cli", E + ["--shape", "10", "--mass", "1e200", "--box", "3"],
+     ["mass=1e+200", "rescale"], 2),
     ("cli-huge-box", "cli", E + ["--shape", "100000", "100000", "--box", "50000", "50000"],
      ["needs about", "available", "smaller region"], 2),
     ("cli-huge-ball-infinite", "cli", E + ["--shape", "inf", "inf", "--mass", "0.1", "--ball",
                                            "1000000"], ["needs about", "available"], 2),
     ("cli-huge-disorder", "cli", E + ["--shape", "1000", "1000", "1000", "--mass", "0.1",
                                       "--mass-disorder", "0.5", "--box", "3"],
-     ["no method fits in memory", "needs about", "uniform"], 2),
+     ["no method can serve", "needs about", "uniform"], 2),
     ("cli-huge-cube", "cli", E + ["--shape", "1000", "1000", "1000", "--box", "200", "200",
                                   "200"], ["no method fits in memory", "smaller region"], 2),
     # -- arealaw run options
@@ -181,6 +189,15 @@ CORPUS = [
      ["is a folder"], 2),
     ("store-under-a-file", "store", ["run", "{d}/s.toml", "--store", "{d}/afile/r.sqlite"],
      ["cannot create the folder", "another --store"], 2),
+    ("store-truncated", "store", ["results", "--store", "{d}/truncated.sqlite"],
+     ["damaged", "new --store"], 2),
+    ("store-result-edited", "store", ["results", "--store", "{d}/badresult.sqlite"],
+     ["cannot be read", "outside arealaw"], 2),
+    ("store-result-edited-fit", "store", ["fit", "--store", "{d}/badresult.sqlite"],
+     ["cannot be read", "outside arealaw"], 2),
+    ("store-results-family-typo", "store", ["results", "--store", "{d}/v001.sqlite",
+                                            "--family", "nope"],
+     ["no results for family 'nope'", "allowed"], 2),
     ("store-fit-empty-family", "store", ["fit", "--store", "{d}/v001.sqlite", "--family", "x"],
      ["no results", "family 'x'"], 2),
     # -- scenario files (run by `arealaw run`)
@@ -209,6 +226,8 @@ CORPUS = [
     ("scn-sweep-backwards", "scenario", BASE + "[[family]]\nbox = {from = 5, to = 2}\n",
      ["from <= to"], 2),
     ("scn-nothing", "scenario", BASE, ["nothing to compute"], 2),
+    ("scn-family-name-twice", "scenario", BASE + "[[family]]\nname = 'x'\nbox = 2\n"
+     "[[family]]\nname = 'x'\nbox = 3\n", ["'x'", "already used", "own name"], 2),
     # -- Python API
     ("api-region-other-network", "api", lambda: al.entropy(NET, al.box(BIG, 3)),
      ["another network", "20x20", "10x10"], ValueError),
@@ -255,6 +274,15 @@ CORPUS = [
      ValueError),
     ("api-energies-float", "api", lambda: al.entropy(NET, al.box(NET, 2), energies=2.5),
      ["energies=2.5"], ValueError),
+    ("api-run-cases-string", "api", lambda: al.run_cases("abc", None),
+     ["cases must be a list of Case", "str"], ValueError),
+    ("api-mass-overflow", "api", lambda: al.hypercubic(10, mass=1e200), ["mass=1e+200", "rescale"],
+     ValueError),
+    ("api-inertia-underflow", "api", lambda: al.hypercubic(10, mass=1.0, inertia=1e-320),
+     ["inertia", "rescale"], ValueError),
+    ("api-fit-power-nan", "api", lambda: fit_scaling([2, 3, 4, 5], [1, 2, 3, 4], dim=2,
+                                                     powers=[float("nan")]),
+     ["power", "finite", "nan"], ValueError),
     ("api-workers-zero", "api", lambda: al.run_cases([], None, workers=0), ["workers=0"],
      ValueError),
 ]

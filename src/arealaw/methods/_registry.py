@@ -300,21 +300,13 @@ def choose_method(network, regions, method="auto", *, tol, blocks=False, tempera
     assessed = _assessments(network, regions, tol, blocks, temperature)
     best = _pick(assessed)
     if best is None:
-        # a method that could serve but for memory, whether it said so itself or _assess did
-        too_big = [(a.bytes, m.name) for m, a in assessed
-                   if a.reason.endswith(_TOO_BIG) or (not a.ok and a.bytes
-                                                      and not fits_in_memory(a.bytes))]
+        too_big = [(a.bytes, m.name) for m, a in assessed if a.reason.endswith(_TOO_BIG)]
         if too_big:
             need, name = min(too_big)
-            lat = getattr(network, "lattice", None)
-            hint = ("; a uniform lattice (no disorder, scalar mass and inertia) is served "
-                    "without assembling V" if lat is not None and hasattr(lat, "is_uniform")
-                    and not lat.is_uniform else "")
             raise InsufficientMemoryError(
                 f"no method fits in memory: the smallest estimate ({name}) needs about "
                 f"{format_bytes(need)} but only {format_bytes(MEMORY_FRACTION * available_bytes())}"
-                f" is available; use a smaller region or lattice (or a machine with more "
-                f"memory){hint}")
+                " is available; use a smaller region (or a machine with more memory)")
         reasons = "; ".join(f"{m.name}: {a.reason}" for m, a in sorted(assessed,
                                                                         key=lambda t: t[0].name))
         raise UnsupportedMethodError(f"no method can serve this case ({reasons})")

@@ -19,6 +19,9 @@ BOUNDARIES = ("dirichlet", "periodic", "open")
 #: method asks for it, so that methods assess them from the description alone; where V would not
 #: fit in memory, ``network.potential`` is then None (V is not formed).
 DEFERRED_ASSEMBLY_SITES = 2**22
+#: Entries of V (m², J) and of M accepted: squares and products of correlators built from them
+#: stay far from overflow and underflow (double precision spans about 1e±308).
+_SCALE_RANGE = (1e-100, 1e100)
 
 
 @dataclass(frozen=True)
@@ -217,6 +220,7 @@ def hypercubic(shape, *, mass=0.0, coupling=1.0, boundary="dirichlet", inertia=1
         boundaries=boundaries, inertia=inertias if np.ndim(inertias) else float(inertias),
         mass_disorder=float(mass_disorder), coupling_disorder=float(coupling_disorder), seed=seed,
     )
+    _check_scale(spec)
     if infinite:
         return OscillatorNetwork(None, lattice=spec, check=False)
 
@@ -265,6 +269,23 @@ def _site_values(value, shape, n_sites, name, *, allow_zero):
         bound = ">= 0" if allow_zero else "> 0"
         raise ValueError(f"{name} must be finite and {bound}, got {np.ravel(bad)[:3].tolist() or arr}")
     return arr if arr.ndim else float(arr)
+
+
+def _check_scale(spec):
+    """Refuse masses, couplings and inertias whose squares or ratios leave double precision."""
+    lo_s, hi_s = _SCALE_RANGE
+    big = [(name, v) for name, v, top in (
+        ("mass", float(np.max(spec.mass)) + spec.mass_disorder, math.sqrt(hi_s)),
+        ("coupling", max(spec.couplings), hi_s)) if v > top]
+    inertia = np.asarray(spec.inertia, dtype=float)
+    if not (lo_s <= float(inertia.min()) and float(inertia.max()) <= hi_s):
+        big.append(("inertia", float(inertia.min() if inertia.min() < lo_s else inertia.max())))
+    if big:
+        name, v = big[0]
+        raise ValueError(f"{name}={v:g} is outside the range this double-precision arithmetic "
+                         f"serves (masses up to {math.sqrt(hi_s):g}, couplings up to {hi_s:g}, "
+                         f"inertias in [{lo_s:g}, {hi_s:g}]); rescale the units: the ground-state entropy "
+                         "depends only on ratios of masses², couplings and inertias")
 
 
 def _check_zero_mode(masses, boundaries, shape):

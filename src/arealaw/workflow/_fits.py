@@ -26,12 +26,14 @@ no source), so that the standard errors reflect the scatter; σ_m is reported as
 ``chi2_red`` stays the value before it.
 """
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
 # chi-square tail from scipy.special: importing scipy.stats would cost ~0.5 s at every command
 from scipy.special import chdtrc
 
+from .._arguments import real_number
 from ._ensembles import average_realisations, ensemble_sigma
 
 __all__ = ["FitResult", "chord_length", "fit_rows", "fit_scaling"]
@@ -267,7 +269,10 @@ def fit_scaling(sizes, values, errors=None, *, dim, powers=(), endpoints=2, max_
         raise ValueError("values must be finite numbers")
     if endpoints not in (1, 2):
         raise ValueError(f"endpoints={endpoints!r} must be 1 or 2")
-    powers = [float(p) for p in powers]
+    powers = [real_number(p, "power") for p in powers]
+    if any(not math.isfinite(p) or p == 0 for p in powers) or len(set(powers)) < len(powers):
+        raise ValueError(f"powers {powers} must be distinct finite numbers other than 0 (R^0 "
+                         "is the constant term, already in the fit)")
     if errors is None:
         sigma = np.ones_like(s)
     else:

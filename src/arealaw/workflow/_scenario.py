@@ -210,6 +210,16 @@ def parse_scenario(text, *, source="", base=None):
     if base is not None and not Path(out).is_absolute():
         out = str(base / out)
     cases, networks = [], {}
+    named = {}
+    for kind, tables in (("family", families), ("pair", pairs)):
+        for i, fam in enumerate(tables):
+            name = fam.get("name") if isinstance(fam, dict) else None
+            if name is not None and name in named:
+                # results, fits and figures are grouped by name: two tables would be mixed
+                raise w.error(f"{kind} name {name!r} is already used by {named[name]}; give "
+                              "each [[family]] and [[pair]] its own name", "name", kind, i)
+            if name is not None:
+                named[name] = f"{kind} {i + 1}"
     for i, fam in enumerate(families):
         cases += _family_cases(fam, i, "family", lattices, defaults, w, base, networks)
     for i, pair in enumerate(pairs):

@@ -21,6 +21,8 @@ import uuid
 from pathlib import Path
 from urllib.parse import quote
 
+from .._arguments import allowed_hint
+
 __all__ = ["APPLICATION_ID", "SCHEMA_VERSION", "ResultStore"]
 
 #: ``PRAGMA application_id`` of arealaw stores (ASCII 'ARLW').
@@ -130,7 +132,11 @@ class ResultStore:
         self._conn = None
         self.schema = self.created_version = None
         self._check_file()
-        self._conn = self._connect()
+        try:
+            self._conn = self._connect()
+        except sqlite3.DatabaseError as exc:
+            raise ValueError(f"store {str(self.path)!r} is damaged ({exc}); rerun the scenario "
+                             "into a new --store path") from None
         try:
             self._identify_when_free()
         except sqlite3.DatabaseError as exc:
@@ -341,11 +347,27 @@ class ResultStore:
         if family is not None:
             sql += " WHERE family = ?"
             args = (family,)
+        where = f"store {str(self.path)!r}"
+        try:
+            found = self._conn.execute(sql + " ORDER BY family, x, label", args).fetchall()
+            families = ([] if found or family is None else sorted(
+                r[0] for r in self._conn.execute("SELECT DISTINCT family FROM cases")))
+        except sqlite3.DatabaseError as exc:
+            raise ValueError(f"{where} is damaged ({exc}); rerun the scenario into a new "
+                             "--store path") from None
+        if family is not None and not found:
+            hint = allowed_hint(family, families, quoted=True) if families else "; it is empty"
+            raise ValueError(f"{where} holds no results for family {family!r}{hint}")
         out = []
-        for r in self._conn.execute(sql + " ORDER BY family, x, label", args):
+        for r in found:
             d = dict(zip(ROW_FIELDS, r[:8]))
-            d["spec"] = json.loads(r[8])
-            d.update(json.loads(r[9]))
+            try:
+                d["spec"] = json.loads(r[8])
+                d.update(json.loads(r[9]))
+            except (TypeError, ValueError) as exc:
+                raise ValueError(f"{where}: the stored result of case {r[0]!r} cannot be read "
+                                 f"({exc}); the file was changed outside arealaw: rerun the "
+                                 "scenario into a new --store path") from None
             out.append(d)
         return out
 

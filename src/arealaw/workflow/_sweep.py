@@ -16,7 +16,8 @@ from threadpoolctl import threadpool_limits
 
 from .._entropy import entropy, region_modes
 from ..network._regions import complement, cut_couplings
-from ._cases import build_network, build_region
+from ._cases import Case, build_network, build_region
+from ._store import ResultStore
 from ._workers import WAIT, WorkerPool, usable_cores
 
 __all__ = ["SweepSummary", "compute_case", "connect", "run_cases"]
@@ -219,6 +220,12 @@ def run_cases(cases, store, *, workers=1, scheduler=None, progress=True, stop_on
     """
     if isinstance(workers, bool) or not isinstance(workers, (int, np.integer)) or workers < 1:
         raise ValueError(f"workers={workers!r} must be a whole number >= 1")
+    if isinstance(cases, (str, bytes, dict)) or not all(isinstance(c, Case) for c in cases):
+        raise ValueError(f"cases must be a list of Case (e.g. load_scenario(path).cases), got "
+                         f"{type(cases).__name__}")
+    if not isinstance(store, ResultStore):
+        raise ValueError(f"store must be a ResultStore (e.g. ResultStore('results.sqlite')), "
+                         f"got {type(store).__name__}")
     stored = store.keys()
     todo = [c for c in cases if c.key not in stored]
     summary = SweepSummary(len(cases), len(cases) - len(todo))
