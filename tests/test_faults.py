@@ -196,3 +196,51 @@ box = [8, 8]
         killer.join()
         assert summary.done + len(summary.failed) == len(sc.cases)
         assert not summary.failed and len(st) == len(sc.cases)
+
+
+SLOW_MODULE = """
+import os
+import time
+
+if os.getpid() != int(os.environ["AREALAW_TEST_PARENT"]):
+    time.sleep(60)  # importing this in a worker takes a minute, far longer than the test waits
+
+
+def work(case):
+    return case
+"""
+
+PARENT = """
+if __name__ == "__main__":  # a spawned worker runs this file first: it must do nothing there
+    import os
+    import time
+
+    os.environ["AREALAW_TEST_PARENT"] = str(os.getpid())
+    import slow_work
+    from arealaw.workflow._workers import WorkerPool
+
+    pool = WorkerPool(1, slow_work.work).start()
+    print(pool._workers[0].proc.pid, flush=True)
+    time.sleep(300)
+"""
+
+
+def test_worker_exits_with_a_parent_killed_while_the_worker_imports(tmp_path):
+    # the guards come before any import of arealaw or of the work function: a worker whose
+    # imports take a minute still exits within seconds of its parent's death
+    (tmp_path / "slow_work.py").write_text(SLOW_MODULE)
+    (tmp_path / "parent.py").write_text(PARENT)
+    path = os.pathsep.join(p for p in (str(tmp_path), ENV.get("PYTHONPATH")) if p)
+    proc = subprocess.Popen([sys.executable, str(tmp_path / "parent.py")],
+                            env={**ENV, "PYTHONPATH": path}, stdout=subprocess.PIPE, text=True)
+    try:
+        worker = int(proc.stdout.readline())
+        time.sleep(1.0)  # the worker is past its start-up, inside the minute-long import
+        assert _stat(worker) is not None and _stat(worker)[0] != "Z"
+        proc.send_signal(signal.SIGKILL)
+        proc.wait(10)
+        _wait_for(lambda: _stat(worker) is None or _stat(worker)[0] == "Z", 10,
+                  "the importing worker to exit after its parent died")
+    finally:
+        proc.kill()
+        proc.communicate()

@@ -3,29 +3,25 @@
 A general-purpose pool loses track of which task a killed process was running (the whole pool
 breaks), and its workers outlive a parent killed with SIGKILL.  Here each worker runs one case at
 a time over its own pipe, so a dead worker's case is known: it is reported as lost (the sweep
-retries it once) and the worker is replaced.  Every worker watches its parent and exits within
-about a second of the parent's death, however the parent died.
+retries it once) and the worker is replaced.  Every worker watches its parent, from its first
+instructions on (:mod:`._worker_boot`), and exits within about a second of the parent's death,
+however the parent died.
 """
 
-import ctypes
 import multiprocessing
 import os
+import runpy
 import signal
-import sys
-import threading
 import time
 from multiprocessing.connection import wait
+
+from . import _worker_boot
 
 __all__ = ["WAIT", "WorkerPool", "usable_cores"]
 
 #: Returned by a case source when no case can be handed out now but more may come later
 #: (cases claimed by another run that is still computing them).
 WAIT = object()
-#: prctl option: signal sent to this process when its parent dies (linux/prctl.h).
-_PR_SET_PDEATHSIG = 1
-#: Seconds between a worker's checks that its parent is alive.
-PARENT_POLL_SECONDS = 0.5
-
 
 def usable_cores():
     """Cores this process may run on (its CPU affinity), at least 1."""
@@ -33,45 +29,6 @@ def usable_cores():
         return max(1, len(os.sched_getaffinity(0)))
     except (AttributeError, OSError):
         return max(1, os.cpu_count() or 1)
-
-
-def _watch_parent(parent_pid):
-    while True:
-        time.sleep(PARENT_POLL_SECONDS)
-        if os.getppid() != parent_pid:
-            os._exit(3)  # orphaned: the sweep that wanted the result is gone
-
-
-def _die_with_parent():
-    """Ask Linux to SIGKILL this process when its parent dies (prctl PR_SET_PDEATHSIG).
-
-    The kernel does this even while a long LAPACK call holds the GIL, which would stall the
-    polling thread until the call returns.  Elsewhere the polling thread alone serves.
-    """
-    if not sys.platform.startswith("linux"):
-        return
-    try:
-        libc = ctypes.CDLL(None, use_errno=True)
-        libc.prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
-    except (OSError, AttributeError):
-        pass
-
-
-def _worker_main(conn, parent_pid, target):
-    # Ctrl-C goes to the whole process group: the parent handles it and stops the workers.
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    _die_with_parent()
-    if os.getppid() != parent_pid:
-        os._exit(3)  # the parent died before the death signal was armed
-    threading.Thread(target=_watch_parent, args=(parent_pid,), daemon=True).start()
-    while True:
-        try:
-            case = conn.recv()
-        except (EOFError, OSError):
-            return
-        if case is None:
-            return
-        conn.send(target(case))
 
 
 def describe_exit(code):
@@ -90,7 +47,13 @@ def describe_exit(code):
 class _Worker:
     def __init__(self, ctx, target):
         self.conn, child = ctx.Pipe()
-        self.proc = ctx.Process(target=_worker_main, args=(child, os.getpid(), target),
+        # the worker runs _worker_boot as a script: its guards are armed before the seconds
+        # of importing arealaw and the work function (named, not pickled, for that reason)
+        given = {"conn": child, "parent_pid": os.getpid(),
+                 "target": f"{target.__module__}:{target.__qualname__}"}
+        self.proc = ctx.Process(target=runpy.run_path, args=(_worker_boot.__file__,),
+                                kwargs={"init_globals": given,
+                                        "run_name": _worker_boot.RUN_NAME},
                                 daemon=True, name="arealaw-worker")
         self.proc.start()
         child.close()
