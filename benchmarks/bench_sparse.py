@@ -1,7 +1,9 @@
 """The general sparse path (no symmetry): a ball in a 3-D lattice with seeded random site masses.
 
 asv times a 40³ Dirichlet lattice (64 000 sites, ball of radius 6.2 ≈ 1 000 sites) with one
-BLAS thread and one worker process; the 10^6-site case is ``scripts/bench_sparse_1e6.py``.
+BLAS thread and one worker process, and the entropy of a ball of radius 5 (552 sites) in the same
+lattice: one realisation of a disorder ensemble; the 10^6-site case is
+``scripts/bench_sparse_1e6.py``.
 ``track_*`` record the entropy, its error bound and the CG iterations, so a change in accuracy
 shows up beside a change in speed.  Run once by hand: ``python -m benchmarks.bench_sparse``.
 """
@@ -35,6 +37,21 @@ class TimeSparseBall:
         with one_blas_thread():
             SparseBackend(n_jobs=1).blocks(self.net, self.region.indices, tol=TOL)
 
+
+
+class TimeSparseRealisation:
+    """The entropy of a ball r = 5 in a disordered 40³ lattice: one realisation of an ensemble."""
+
+    number = 1
+    repeat = 1
+    timeout = 600
+
+    def setup(self):
+        self.net, self.region = disordered_case(radius=5.0)
+
+    def time_entropy(self):
+        with one_blas_thread():
+            entropy(self.net, self.region, method="sparse", tol=TOL)
 
 
 class TrackSparseBall:

@@ -82,8 +82,8 @@ COSTS = {
         "benchmarks/bench_restricted.py (balls R = 10, 12, same run as fft_point)", "2026-12-01"),
     # sparse backend (contour quadrature, shifted CG)
     "sparse.cg_entry": CostConstant(
-        6e-10, "second per (nonzero × right-hand side × CG iteration)",
-        f"{_BENCH} sparse-*", "2026-12-03"),
+        3.5e-10, "second per (nonzero × right-hand side × CG iteration), fused CG kernels",
+        f"{_BENCH} sparse-* (ratios 0.37-1.36 under load 6)", "2026-12-03"),
     "sparse.dense_cube": CostConstant(
         3e-9, "second per n³ of the region (blocks, boundary Schur complement)",
         f"{_BENCH} sparse-*", "2026-12-03"),
