@@ -92,7 +92,9 @@ def test_restricted_spectrum_from_box_operators_matches_dense(name):
     d = get_backend("dense").blocks(net, idx)
     ref = symplectic_spectrum(d.x, d.p, x_error=d.x_error, p_error=d.p_error)
     diff = abs(von_neumann_entropy(spec) - von_neumann_entropy(ref))
-    assert diff <= 1e-9
+    # the solver stops once more vectors could not lower its bound by a third: the operators'
+    # trace error (~1e-8 here) keeps the bound near 5e-7, and the value follows it
+    assert diff <= 1e-6
     assert diff <= entropy_error_bound(spec) + entropy_error_bound(ref)
 
 

@@ -23,7 +23,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.linalg
 import scipy.sparse.linalg as spla
 
 from .._errors import ConvergenceError
@@ -32,6 +31,7 @@ from .._numerics import DEFAULT_ENTROPY_TOL, EPS, check_tol, require_memory
 from ._symplectic import SymplecticSpectrum, Tail, symplectic_spectrum
 from ..correlators import apply_operator, as_array, operator_trace
 from .._progress import report
+from ._block_krylov import band_ritz, dense_ritz, norm_bound, orthonormalize_block
 
 __all__ = ["restricted_spectrum"]
 
@@ -85,125 +85,6 @@ class _LanczosRun:
     krylov_dim: int
     dropped: int            # directions dropped below rounding and refilled at random
     status: LanczosStatus
-
-
-def _norm_bound(op, arr, n, rng):
-    """Upper estimate of ‖op‖₂ (rigorous max-row-sum for matrices, power estimate ×1.5 else)."""
-    if arr is not None:
-        return float(np.abs(arr).sum(axis=1).max())
-    v = rng.standard_normal(n)
-    lam = 0.0
-    for _ in range(20):
-        v /= np.linalg.norm(v)
-        w = np.asarray(op.matvec(v)).ravel()
-        lam = float(np.linalg.norm(w))
-        v = w
-    return 1.5 * lam
-
-
-def _project_out(z, basis, pbasis, pz=None):
-    """Classical Gram–Schmidt twice in the P inner product (coefficients Wᵀz need no P z)."""
-    c_tot = np.zeros((basis.shape[1], z.shape[1]))
-    if basis.shape[1]:
-        for _ in range(2):
-            c = pbasis.T @ z
-            z -= basis @ c
-            if pz is not None:
-                pz -= pbasis @ c
-            c_tot += c
-    return c_tot
-
-
-def _normalize_block(z, floor, p_op, pa):
-    """z = q r with qᵀPq = I on the kept directions, zero columns / rows for the dropped ones.
-
-    The rank decision and the scaling come from a Euclidean QR + SVD (backward stable, so
-    directions far smaller than the largest are resolved); the P-Gram matrix is then only
-    asked to normalise orthonormal columns, which is well conditioned (by cond(P_A)).
-    Returns (q, pq, r, keep, spread) with ``spread`` the ratio of kept singular values.
-    """
-    n, b = z.shape
-    uq, rr = np.linalg.qr(z)
-    uu, ss, vt = np.linalg.svd(rr)
-    kk = int(np.count_nonzero(ss > max(floor, 1e-300)))
-    q = np.zeros((n, b))
-    pq = np.zeros((n, b))
-    r = np.zeros((b, b))
-    if kk:
-        w = uq @ uu[:, :kk]
-        pw = apply_operator(p_op, pa, w)
-        g = w.T @ pw
-        lam, ug = scipy.linalg.eigh(0.5 * (g + g.T))
-        inv = 1.0 / np.sqrt(lam)
-        q[:, :kk] = (w @ ug) * inv
-        pq[:, :kk] = (pw @ ug) * inv
-        r[:kk] = (ug * np.sqrt(lam)).T @ (ss[:kk, None] * vt[:kk])
-    spread = float(ss[0] / ss[kk - 1]) if kk else math.inf
-    return q, pq, r, np.arange(b) < kk, spread
-
-
-def _orthonormalize_block(z, basis, pbasis, scale, rng, p_op, pa):
-    """P-orthonormalise block z against ``basis`` and itself: z = basis·h + q·r.
-
-    Gram–Schmidt twice against the basis, then a stable normalisation inside the block
-    (:func:`_normalize_block`, one product with P).  When the block spans very different
-    scales (tiny Lanczos couplings, usual for fast-decaying spectra) a second round restores
-    the orthogonality to the basis.  Directions below rounding are dropped and replaced by
-    random ones (the caller then keeps T's columns whole); a final QR makes r triangular, so
-    T stays banded.  Returns (q, pq, h, r, dropped).
-    """
-    b = z.shape[1]
-    znorm = float(np.linalg.norm(z, axis=0).max(initial=0.0))
-    h = _project_out(z, basis, pbasis)
-    q, pq, r1, keep, spread = _normalize_block(z, 1e3 * EPS * max(scale, znorm), p_op, pa)
-    dropped = int(b - keep.sum())
-    if dropped:
-        cols = np.flatnonzero(~keep)
-        fill = rng.standard_normal((q.shape[0], dropped))
-        _project_out(fill, np.hstack([basis, q[:, keep]]), np.hstack([pbasis, pq[:, keep]]))
-        # no room left (the basis spans everything): zero columns add only t = 0 Ritz values
-        fq, fpq, _, _, _ = _normalize_block(fill, 1e-6 * math.sqrt(q.shape[0]), p_op, pa)
-        q[:, cols] = fq
-        pq[:, cols] = fpq
-    elif spread <= 1e3:
-        # a well-conditioned block: Gram–Schmidt twice was enough
-        o, r = scipy.linalg.qr(r1)
-        return q @ o, pq @ o, h, r, dropped
-    c2 = _project_out(q, basis, pbasis)
-    # columns have P-norm ≈ 1 here: a singular value far below 1 is dependence, not signal
-    q, pq, r2, keep2, _ = _normalize_block(q, 1e-8, p_op, pa)
-    h += c2 @ r1
-    # triangularise on the kept columns only (mixing in a zero column would denormalise)
-    rows = np.flatnonzero(keep2)
-    o, r_kept = scipy.linalg.qr((r2 @ r1)[rows])
-    q_out = np.zeros_like(q)
-    pq_out = np.zeros_like(pq)
-    q_out[:, :rows.size] = q[:, rows] @ o
-    pq_out[:, :rows.size] = pq[:, rows] @ o
-    r = np.zeros_like(r1)
-    r[:rows.size] = r_kept
-    return q_out, pq_out, h, r, dropped
-
-
-def _band_ritz(diag_blocks, sub_blocks, b):
-    """Eigenvalues (descending) of the symmetric block-tridiagonal T − ¼I stored blockwise."""
-    m = len(diag_blocks) * b
-    band = np.zeros((b + 1, m))
-    for j, d in enumerate(diag_blocks):
-        s = j * b
-        for off in range(b):
-            band[off, s:s + b - off] = np.diagonal(d, -off)
-    for j, r in enumerate(sub_blocks[:len(diag_blocks) - 1]):
-        s = j * b
-        # r sits at rows s+b.., cols s..; r upper triangular: entry (i, c) has offset b + i − c
-        for off in range(1, b + 1):
-            # offset off ⇒ row − col = off; rows s+b+i, cols s+c with b + i − c = off
-            i = np.arange(b)
-            c = b + i - off
-            ok = (c >= 0) & (c < b) & (c >= i)
-            band[off, s + c[ok]] = r[i[ok], c[ok]]
-    lam = scipy.linalg.eig_banded(band, lower=True, eigvals_only=True)
-    return lam[::-1]
 
 
 def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None, trace=None,
@@ -299,8 +180,8 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
         raise ValueError(f"maxiter={maxiter!r} must be a positive number of Lanczos blocks")
     trace_t, trace_err = trace if trace is not None else operator_trace(x if xa is None else xa,
                                                                         p if pa is None else pa)
-    xn = _norm_bound(x_op, xa, n, rng) if (p_error or x_error) else 0.0
-    pn = _norm_bound(p_op, pa, n, rng) if (p_error or x_error) else 0.0
+    xn = norm_bound(x_op, xa, n, rng) if (p_error or x_error) else 0.0
+    pn = norm_bound(p_op, pa, n, rng) if (p_error or x_error) else 0.0
     block_err = xn * p_error + pn * x_error + x_error * p_error
     # Hoffman–Wielandt: the top k modes move by at most √k·‖Δ‖_F in total, with
     # ‖Δ‖_F ≤ ‖P‖‖F‖_F + ‖X + F‖‖G‖_F for the two symmetric forms P^½XP^½ and LᵀPL;
@@ -314,8 +195,8 @@ def restricted_spectrum(x, p, *, entropy_tol=DEFAULT_ENTROPY_TOL, threshold=None
         # the given trace already holds the entry errors of the blocks; only the operators'
         # own errors (spectral norms rx, rp, e.g. FFT rounding) remain, n modes at most each
         rx, rp = trace_norm_errors
-        xn = xn or _norm_bound(x_op, xa, n, rng)
-        pn = pn or _norm_bound(p_op, pa, n, rng)
+        xn = xn or norm_bound(x_op, xa, n, rng)
+        pn = pn or norm_bound(p_op, pa, n, rng)
         trace_err = trace_err + n * (xn * rp + pn * rx + rx * rp)
     elif xa is not None and pa is not None:
         trace_err = trace_err + min(n * block_err, x_error * float(np.trace(pa))
@@ -385,24 +266,6 @@ def _dense_fallback(x, p, xa, pa, x_error, p_error, info, attempts):
     return symplectic_spectrum(xd, pd, x_error=x_error, p_error=p_error, info=extra)
 
 
-def _dense_ritz(diag_blocks, sub_blocks, full_cols, b):
-    """Eigenvalues (descending) of T − ¼I when some column blocks are full (after random fill)."""
-    nb = len(diag_blocks)
-    m = nb * b
-    t = np.zeros((m, m))
-    for j, d in enumerate(diag_blocks):
-        t[j * b:(j + 1) * b, j * b:(j + 1) * b] = d
-    for j, r in enumerate(sub_blocks[:nb - 1]):
-        t[(j + 1) * b:(j + 2) * b, j * b:(j + 1) * b] = r
-        t[j * b:(j + 1) * b, (j + 1) * b:(j + 2) * b] = r.T
-    for j, h in full_cols.items():
-        s = j * b
-        t[:s, s:s + b] = h[:s]
-        t[s:s + b, :s] = h[:s].T
-    t = 0.5 * (t + t.T)
-    return scipy.linalg.eigvalsh(t)[::-1]
-
-
 def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng, adaptive=True):
     """Block Lanczos on C − ¼I in the P inner product with checkpoints every ~10 % of growth.
 
@@ -417,7 +280,7 @@ def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng, 
                    f"Lanczos vectors of {n} sites", "use a smaller region or a larger tol")
     q_all = np.empty((n, cap_cols))
     w_all = np.empty((n, cap_cols))
-    q, pq, _, _, _ = _orthonormalize_block(rng.standard_normal((n, b)), q_all[:, :0],
+    q, pq, _, _, _ = orthonormalize_block(rng.standard_normal((n, b)), q_all[:, :0],
                                            w_all[:, :0], 1.0, rng, p_op, pa)
     q_all[:, :b], w_all[:, :b] = q, pq
     diag_blocks, sub_blocks = [], []
@@ -438,7 +301,7 @@ def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng, 
             return _LanczosRun(result, m, dropped_total, LanczosStatus.FULL)
         zq = apply_operator(x_op, xa, w_all[:, s:m])       # C q_j = X (P q_j)
         zq -= 0.25 * q_all[:, s:m]                  # shift: T − ¼I has the t as eigenvalues
-        qn, pqn, h, r, dropped = _orthonormalize_block(zq, q_all[:, :m], w_all[:, :m], scale,
+        qn, pqn, h, r, dropped = orthonormalize_block(zq, q_all[:, :m], w_all[:, :m], scale,
                                                        rng, p_op, pa)
         d = h[s:m]
         diag_blocks.append(0.5 * (d + d.T))
@@ -453,8 +316,8 @@ def _block_lanczos(ops, *, block_size, max_blocks, threshold, entropy_tol, rng, 
         if j + 1 < next_check and j + 1 < max_blocks:
             continue
         next_check = max(j + 2, int(1.1 * (j + 1)) + 1)
-        theta = (_dense_ritz(diag_blocks, sub_blocks, full_cols, b) if full_cols else
-                 _band_ritz(diag_blocks, sub_blocks, b))
+        theta = (dense_ritz(diag_blocks, sub_blocks, full_cols, b) if full_cols else
+                 band_ritz(diag_blocks, sub_blocks, b))
         scale = max(scale, abs(float(theta[0])) + 0.25)
         result = _assess(theta, tau, n, m, ops, scale, offband)
         # every mode above τ is found but the tail below it still holds more than tol: count
