@@ -36,8 +36,8 @@ def test_massless_plane_correlators_match_zone_integrals():
     coords = net.coords(rows)
     for j in (1, 3):  # neighbour and diagonal neighbour of site 0
         dx, dy = (coords[j] - coords[0]).tolist()
-        assert abs(b.x[0, j] - _bz_entry(-1, dx, dy)) < 1e-9 + b.info["entry_x_error"]
-        assert abs(b.p[0, j] - _bz_entry(1, dx, dy)) < 1e-9 + b.info["entry_p_error"]
+        assert abs(b.x[0, j] - _bz_entry(-1, dx, dy)) < 1e-9 + b.entry_x_error
+        assert abs(b.p[0, j] - _bz_entry(1, dx, dy)) < 1e-9 + b.entry_p_error
     assert abs(b.x[0, 0] - _bz_entry(-1, 0, 0)) < 1e-9
 
 

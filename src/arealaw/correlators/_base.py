@@ -113,6 +113,10 @@ class RegionOperators:
 
     ``trace`` is (tr(X_A P_A) − n/4, bound on its error) where the backend can form it without
     products (the restricted solver needs it; otherwise it costs 2n products).
+    ``entry_x_error``, ``entry_p_error`` bound the error of any single entry of the operators'
+    matrices where the backend can say (None otherwise); ``operator_rounding`` = (r_x, r_p)
+    bounds, in spectral norm, what the products add beyond those entries (FFT rounding), and is
+    given only when ``trace`` already holds the entry errors.
     """
 
     x: spla.LinearOperator
@@ -121,6 +125,9 @@ class RegionOperators:
     p_error: float = 0.0
     info: dict = field(default_factory=dict)
     trace: tuple = None
+    entry_x_error: float = None
+    entry_p_error: float = None
+    operator_rounding: tuple = None
 
 
 @dataclass
@@ -160,7 +167,8 @@ class CorrelatorBackend:
         """Return :class:`RegionOperators` for the region ``rows`` (default: its dense blocks)."""
         b = self.blocks(network, rows, tol=tol, temperature=temperature)
         return RegionOperators(spla.aslinearoperator(b.x), spla.aslinearoperator(b.p),
-                               b.x_error, b.p_error, b.info, trace=operator_trace(b.x, b.p))
+                               b.x_error, b.p_error, b.info, trace=operator_trace(b.x, b.p),
+                               entry_x_error=b.entry_x_error, entry_p_error=b.entry_p_error)
 
     def operator_bytes(self, network, rows):
         """Memory that :meth:`operators` needs for the region ``rows`` (default: dense blocks)."""

@@ -108,25 +108,25 @@ def restricted_block_spectrum(backend, network, rows, tol):
     # entropy() has one accuracy knob: the correlator target ``tol`` doubles as the entropy
     # accuracy asked of the Lanczos tail (the block errors enter the bound separately)
     # FFT box operators come with a gathered trace that already holds the entry errors
-    norm_errors = ops.info.get("operator_rounding") if ops.trace is not None else None
+    norm_errors = ops.operator_rounding if ops.trace is not None else None
     xa, pa = as_array(ops.x), as_array(ops.p)
     if (norm_errors is None and ops.trace is not None and xa is not None and pa is not None
-            and "entry_x_error" in ops.info):
+            and ops.entry_x_error is not None):
         # dense blocks with entry bounds: the trace moves by at most e_x·Σ|P| + e_p·Σ|X| + …
-        ex, ep = ops.info["entry_x_error"], ops.info["entry_p_error"]
+        ex, ep = ops.entry_x_error, ops.entry_p_error
         n = float(xa.shape[0])
         t, e = ops.trace
         ops.trace = (t, e + ex * float(np.abs(pa).sum()) + ep * float(np.abs(xa).sum())
                      + n * n * ex * ep)
         norm_errors = (0.0, 0.0)
     fro = {}
-    if "entry_x_error" in ops.info:
+    if ops.entry_x_error is not None:
         # the entry bounds describe the blocks' error up to the operators' own rounding (a
         # spectral norm r): ‖F‖_F ≤ n·e + √n·r
         n = float(ops.x.shape[0])
-        rx, rp = ops.info.get("operator_rounding", (0.0, 0.0))
-        fro = {"x_frobenius": n * ops.info["entry_x_error"] + math.sqrt(n) * rx,
-               "p_frobenius": n * ops.info["entry_p_error"] + math.sqrt(n) * rp}
+        rx, rp = ops.operator_rounding or (0.0, 0.0)
+        fro = {"x_frobenius": n * ops.entry_x_error + math.sqrt(n) * rx,
+               "p_frobenius": n * ops.entry_p_error + math.sqrt(n) * rp}
     return restricted_spectrum(ops.x, ops.p, entropy_tol=tol, x_error=ops.x_error,
                                p_error=ops.p_error, trace=ops.trace, info=ops.info,
                                trace_norm_errors=norm_errors, **fro)

@@ -185,7 +185,8 @@ def box_operators(network, rows, *, tol, temperature=0.0):
     entry_x, entry_p = tables.entry_errors(n_terms, fx, fp)
     info = dict(tables.info, image_terms=n_terms, operator="fft-box",
                 box=[int(w) for w in plan.width], fft_grid=list(plan.grid),
-                entry_x_error=entry_x, entry_p_error=entry_p, temperature=float(temperature))
+                temperature=float(temperature))
     # ‖E‖₂ ≤ n · max |E_ij| for the tables, plus the FFT rounding of each product
-    info = dict(info, operator_rounding=(x.rounding, p.rounding))
-    return RegionOperators(x, p, n * entry_x + x.rounding, n * entry_p + p.rounding, info)
+    return RegionOperators(x, p, n * entry_x + x.rounding, n * entry_p + p.rounding, info,
+                           entry_x_error=entry_x, entry_p_error=entry_p,
+                           operator_rounding=(x.rounding, p.rounding))

@@ -81,9 +81,7 @@ class _Gather:
                                            temperature=kernel_temperature(lat, temperature))
         self.fx, self.fp = correlator_factors(lat)
         self.entry_x, self.entry_p = tables.entry_errors(plan.n_terms, self.fx, self.fp)
-        # the entry bounds also travel in ``info`` for operators built from these blocks
-        self.info = dict(tables.info, image_terms=plan.n_terms, entry_x_error=self.entry_x,
-                         entry_p_error=self.entry_p, temperature=float(temperature))
+        self.info = dict(tables.info, image_terms=plan.n_terms, temperature=float(temperature))
 
     def chunks(self):
         """Yield (row slice, X rows, P rows) with at most _CHUNK entries per chunk."""
