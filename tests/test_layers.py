@@ -13,7 +13,8 @@ import arealaw
 SRC = pathlib.Path(arealaw.__file__).parent
 
 #: Layers from the bottom; a module may import its own layer and those listed before it.
-LAYERS = ["_version", "_errors", "_numerics", "_arguments", "_costs", "_progress", "network", "correlators",
+LAYERS = ["_version", "_errors", "_numerics", "_arguments", "_costs", "_progress", "_parallel",
+          "network", "correlators",
           "spectrum", "methods", "_entropy", "workflow", "views", "cli", "__init__", "__main__"]
 LEVEL = {name: i for i, name in enumerate(LAYERS)}
 

@@ -8,6 +8,7 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from ._numerics import DEFAULT_TOL, check_tol, require_memory
+from ._parallel import parallel_work, parallelism
 from .spectrum._measures import (entanglement_energies, entropy_error_bound, mutual_information,
                         normalize_order, order_label, renyi_entropy, von_neumann_entropy)
 from .correlators import check_temperature
@@ -165,7 +166,7 @@ def _pure_complement(network, region, region_b, temperature=0.0):
 
 
 def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFAULT_TOL,
-            energies=0, negativity=False, temperature=0.0):
+            energies=0, negativity=False, temperature=0.0, workers=None, scheduler=None):
     """Entropy of ``region`` in the ground state (or Gibbs state at ``temperature``) of ``network``.
 
     Parameters
@@ -190,6 +191,15 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     temperature : float
         T ≥ 0 of the Gibbs state ρ ∝ exp(−H/T) (k_B = ħ = 1, lattice units); 0 is the ground
         state.  Methods that serve only the ground state refuse T > 0 and name one that can.
+    workers : int, optional
+        Local processes for the computation's independent work units (column blocks of the
+        sparse solves, parity sectors, partial waves, transverse momenta); 1: all in this
+        process.  Default: each stage's automatic choice.
+    scheduler : str or distributed.Client, optional
+        Send those work units to the workers of a dask.distributed cluster instead (an address
+        such as ``'tcp://head-node:8786'``, or a client).  Workers need arealaw installed, not
+        the network's files: the units carry their data.  The numbers are those of a serial
+        computation, bit for bit.
 
     Returns
     -------
@@ -206,6 +216,17 @@ def entropy(network, region, *, region_b=None, renyi=(), method="auto", tol=DEFA
     >>> hot.entropy > res.entropy, hot.error_bound < 1e-9
     (True, True)
     """
+    par = parallelism(workers, scheduler)
+    with parallel_work(par):
+        res = _entropy(network, region, region_b=region_b, renyi=renyi, method=method, tol=tol,
+                       energies=energies, negativity=negativity, temperature=temperature)
+    if not par.is_automatic:
+        res.info["parallel"] = par.describe()
+    return res
+
+
+def _entropy(network, region, *, region_b, renyi, method, tol, energies, negativity,
+             temperature):
     t0 = time.perf_counter()
     check_network(network)
     _check_method(method)
@@ -396,7 +417,7 @@ def _info(spec):
 
 
 def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DEFAULT_TOL,
-                           temperature=0.0):
+                           temperature=0.0, workers=None, scheduler=None):
     """Logarithmic negativity E_N(A:B) of the (generally mixed) reduced state of A ∪ B.
 
     The rest of the network is traced out.  Partial transposition flips the sign of B's
@@ -416,6 +437,8 @@ def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DE
         Target accuracy of the correlators.
     temperature : float
         T ≥ 0 of the Gibbs state (0: the ground state, pure).
+    workers, scheduler : optional
+        Where the independent work units run, as in :func:`entropy`.
 
     Returns
     -------
@@ -434,8 +457,9 @@ def logarithmic_negativity(network, region_a, region_b, *, method="auto", tol=DE
     tol = check_tol(tol)
     _check_region(network, region_a, "region_a")
     _check_pair(network, region_a, region_b, "the logarithmic negativity")
-    return _negativity(network, region_a, region_b, method, tol,
-                       temperature=check_temperature(temperature))
+    temperature = check_temperature(temperature)
+    with parallel_work(parallelism(workers, scheduler)):
+        return _negativity(network, region_a, region_b, method, tol, temperature=temperature)
 
 
 def _partial_transpose_bytes(n):

@@ -4,12 +4,14 @@ import math
 
 from .._entropy import entropy
 from .._numerics import DEFAULT_TOL, check_tol
+from .._parallel import connect
 from ..methods import RadialMethod
 from ..methods._radial import DEFAULT_RTOL as RADIAL_RTOL
 from ..methods._registry import choose_method, method_names
 from ..network import network_from_spec, radial_lattice, region_from_spec, shells
 from ..network._specs import LATTICE_SPEC, MATRIX_SPEC, REGION_SPEC
-from ._common import HelpFormatter, parse_extent, parse_order, print_json, progress_bars
+from ._common import (HelpFormatter, parse_extent, parse_order, positive_float, positive_int,
+                      print_json, progress_bars)
 
 __all__ = ["register"]
 
@@ -24,6 +26,9 @@ EPILOG = """examples:
   arealaw entropy --potential V.npz --kinetic M.npz --sites region.txt
   arealaw entropy --shape 40 40 --mass 0.1 --box 10 10 --temperature 0.2   Gibbs state
   arealaw entropy --radial 60 --dim 3 --shells 10               ball by partial waves
+  arealaw entropy --shape 40 40 40 --mass 0.3 --mass-disorder 0.5 --seed 1 --ball 5 --workers 2
+  arealaw entropy --shape 100 100 100 --mass-disorder 1 --ball 6 --scheduler tcp://head:8786
+                                          work units (column blocks) on a dask cluster's workers
   arealaw entropy --shape 20 inf inf --boundary dirichlet periodic periodic --half-space 0 10
                                                                 entropy per unit area
 
@@ -90,6 +95,16 @@ def register(sub):
     out.add_argument("--quiet", action="store_true",
                      help="no progress bars (they appear on stderr, with an ETA, for stages "
                           "running longer than a few seconds)")
+    par = p.add_argument_group("parallel work (column blocks of sparse solves, parity sectors, "
+                               "partial waves, transverse momenta)")
+    par.add_argument("--workers", type=positive_int, metavar="N",
+                     help="local worker processes (default: automatic; 1: this process only)")
+    par.add_argument("--scheduler", metavar="ADDRESS",
+                     help="send the work units to the workers of a dask.distributed scheduler, "
+                          "e.g. tcp://head-node:8786 (workers need arealaw, not your files)")
+    par.add_argument("--scheduler-timeout", type=positive_float, default=20.0,
+                     metavar="SECONDS",
+                     help="how long to try reaching the scheduler (default 20)")
     p.set_defaults(func=run)
 
 
@@ -165,13 +180,19 @@ def _plan(args, net, region, region_b):
 def _report(args, net, region, region_b):
     if args.plan:
         return _plan(args, net, region, region_b)
-    res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
-                  tol=args.tol, energies=args.energies, negativity=args.negativity,
-                  temperature=args.temperature)
-    with progress_bars(not args.quiet):
-        res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
-                      tol=args.tol, energies=args.energies, negativity=args.negativity,
-                      temperature=args.temperature)
+    if args.workers is not None and args.scheduler is not None:
+        raise ValueError(f"give --workers {args.workers} or --scheduler {args.scheduler}, not "
+                         "both (workers are local processes, the scheduler's are a cluster's)")
+    # connect before computing: an unreachable scheduler is one line, not a late failure
+    client = connect(args.scheduler, timeout=args.scheduler_timeout) if args.scheduler else None
+    try:
+        with progress_bars(not args.quiet):
+            res = entropy(net, region, region_b=region_b, renyi=args.renyi, method=args.method,
+                          tol=args.tol, energies=args.energies, negativity=args.negativity,
+                          temperature=args.temperature, workers=args.workers, scheduler=client)
+    finally:
+        if client is not None:
+            client.close()
     out = res.to_dict()
     if "lmax" in res.info:  # partial waves: the explicit angular-momentum cut-off
         out["lmax"] = res.info["lmax"]

@@ -20,12 +20,12 @@ half the target max(tol, rtol·S).
 """
 
 import functools
-import os
 
 import numpy as np
 
 from .._errors import UnsupportedMethodError
 from .._costs import cost
+from .._parallel import map_units
 from ..spectrum._measures import entropy_error_bound, mode_entropy, von_neumann_entropy
 from ._registry import Method
 from ._wave_tail import WaveTail, degeneracy
@@ -71,15 +71,14 @@ def _sector(n_radial, n, l, dim, mass):
 
 
 def _sectors(n_radial, n, ls, dim, mass, n_jobs):
+    """Partial-wave spectra: independent work units, run where the caller asked
+    (:mod:`arealaw._parallel`); without a setting, ``n_jobs`` or all cores when it pays."""
     ls = [float(l) for l in ls]
     work = len(ls) * (cost("radial.sector_cube") * n_radial**3 + cost("radial.sector_overhead"))
     if n_jobs is None:
-        n_jobs = 1 if work < 4.0 or (os.cpu_count() or 1) < 2 else -1
-    if n_jobs == 1 or len(ls) < 8:
-        return [_sector(n_radial, n, l, dim, mass) for l in ls]
-    import joblib
-    return joblib.Parallel(n_jobs=n_jobs, batch_size=max(1, len(ls) // 64))(
-        joblib.delayed(_sector)(n_radial, n, l, dim, mass) for l in ls)
+        n_jobs = 1 if work < 4.0 or len(ls) < 8 else -1
+    return map_units(_sector, [(n_radial, n, l, dim, mass) for l in ls], auto=n_jobs,
+                     stage="partial waves", batch_size=max(1, len(ls) // 64))
 
 
 @functools.lru_cache(maxsize=4)

@@ -11,6 +11,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from .._numerics import fits_in_memory
+from .._parallel import map_units
 from ._registry import BlockMethod, dense_spectrum_seconds
 from ..spectrum._symplectic import combine_spectra, symplectic_spectrum
 from ..correlators import Assessment
@@ -114,6 +115,11 @@ def _sector_block(rep_rows, grp, chi, cols):
     return 0.5 * (z + z.T)
 
 
+def _sector_spectrum(x, p, x_entry, p_entry, info):
+    """One parity sector's symplectic spectrum (a work unit: module level, data in)."""
+    return symplectic_spectrum(x, p, x_entry=x_entry, p_entry=p_entry, info=info)
+
+
 class ReflectionBlockMethod(BlockMethod):
     """A block method that splits mirror-symmetric regions into parity sectors first.
 
@@ -154,19 +160,19 @@ class ReflectionBlockMethod(BlockMethod):
         b = self.backend.blocks(network, idx[grp.reps], idx, tol=tol, temperature=temperature)
         if b.entry_x_error is None or b.entry_p_error is None:
             return super().spectrum(network, region, tol=tol, temperature=temperature)
-        parts, sizes = [], []
+        units, sizes = [], []
         for sigma in range(grp.size):
             chi = grp.character(sigma)
             cols = grp.allowed(chi)
             if not cols.size:
                 continue
             # a sector entry sums |G| entries with weights ≤ 1: its error is ≤ |G|·entry bound
-            spec = symplectic_spectrum(_sector_block(b.x, grp, chi, cols),
-                                       _sector_block(b.p, grp, chi, cols),
-                                       x_entry=grp.size * b.entry_x_error,
-                                       p_entry=grp.size * b.entry_p_error, info=b.info)
-            parts.append((spec, 1.0))
+            units.append((_sector_block(b.x, grp, chi, cols), _sector_block(b.p, grp, chi, cols),
+                          grp.size * b.entry_x_error, grp.size * b.entry_p_error, b.info))
             sizes.append(int(cols.size))
         if sum(sizes) != region.size:  # completeness of the sector bases
             raise AssertionError("reflection sectors do not span the region")
+        # the sectors' eigenproblems are independent work units (in process unless the caller
+        # asked for workers or a cluster); their blocks travel as data
+        parts = [(spec, 1.0) for spec in map_units(_sector_spectrum, units, stage="sectors")]
         return combine_spectra(parts, info=dict(b.info, reflection_sectors=sizes))

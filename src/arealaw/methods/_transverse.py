@@ -27,6 +27,7 @@ import scipy.special
 
 from .._costs import cost
 from .._numerics import EPS
+from .._parallel import map_units
 from .._errors import ZERO_MODE, ConvergenceError, UnsupportedMethodError
 from ..network._lattices import HypercubicLattice, hypercubic
 from ..spectrum._measures import von_neumann_entropy
@@ -194,8 +195,16 @@ def _zone_parts(lat, axes, start, stop, levels, nodes, temperature=0.0):
         wg = np.multiply.outer(wg, w)
     wg = wg / math.pi**n_t  # ∫_{[−π,π]^n} d^n k/(2π)^n of an even function = (1/π^n)∫_{[0,π]^n}
     mus, ws = _grouped(mu2, wg)
-    return [(_chain_spectrum(lat, axes, start, stop, m, temperature), float(wt))
-            for m, wt in zip(mus, ws)]
+    return _chains(lat, axes, start, stop, mus, ws, temperature)
+
+
+def _chains(lat, axes, start, stop, mus, ws, temperature):
+    """(spectrum, weight) per chain: the transverse momenta are independent work units, run
+    where the caller asked (:mod:`arealaw._parallel`; in process by default).  The lattice
+    travels as its description (a few hundred bytes), never as V."""
+    specs = map_units(_chain_spectrum, [(lat, axes, start, stop, m, temperature) for m in mus],
+                      stage="transverse momenta")
+    return [(spec, float(w)) for spec, w in zip(specs, ws)]
 
 
 def _entropy_of(parts):
@@ -255,8 +264,7 @@ class TransverseMethod(Method):
             return self._per_area(lat, axes, start, stop, tol, temperature)
         ks = [2 * np.pi * np.arange(n) / n for n in transverse]
         mus, ws = _grouped(_mu2(lat, axes, ks), 1.0) if ks else (np.array([lat.mass**2]), [1.0])
-        parts = [(_chain_spectrum(lat, axes, start, stop, m, temperature), float(w))
-                 for m, w in zip(mus, ws)]
+        parts = _chains(lat, axes, start, stop, mus, ws, temperature)
         return combine_spectra(parts, info={"transverse_momenta": int(np.sum(ws)),
                                             "distinct_chains": len(parts), "axes": list(axes)})
 

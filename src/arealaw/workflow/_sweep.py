@@ -15,6 +15,7 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from .._entropy import entropy, region_modes
+from .._parallel import connect
 from ..network._regions import complement, cut_couplings
 from ._cases import Case, build_network, build_region
 from ._store import ResultStore
@@ -279,23 +280,6 @@ def run_cases(cases, store, *, workers=1, scheduler=None, progress=True, stop_on
     finally:
         bar.close()
     return summary
-
-
-def connect(address, *, timeout=20.0):
-    """A dask.distributed ``Client`` for the scheduler at ``address`` (ValueError if unreachable).
-
-    Workers must have arealaw installed (same version: it is part of every case's hash).
-    """
-    try:
-        from distributed import Client
-    except ImportError:
-        raise ValueError("--scheduler needs dask.distributed: pip install 'arealaw[cluster]'") \
-            from None
-    try:
-        return Client(address, timeout=f"{float(timeout)}s")
-    except (OSError, TimeoutError) as exc:
-        raise ValueError(f"cannot reach the dask scheduler at {address!r} ({exc}); start one "
-                         "with 'dask scheduler' and workers with 'dask worker ADDRESS'") from None
 
 
 def _dask_results(source, scheduler):

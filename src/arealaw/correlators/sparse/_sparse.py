@@ -23,11 +23,12 @@ Engines for the solves with H_BB (chosen by the condition number κ and the stru
 * ``'amg'`` (general M, or large κ): CG per shift preconditioned with pyamg smoothed
   aggregation; the number of shifts grows like ln κ.
 
-Column blocks run in parallel processes (joblib), BLAS pinned to one thread each.
+Column blocks of right-hand sides are independent work units (:mod:`arealaw._parallel`): local
+processes or dask.distributed workers as the caller asks (``entropy(..., workers=, scheduler=)``),
+otherwise all usable cores for large problems; BLAS pinned to one thread in each.
 """
 
 import math
-import os
 import warnings
 import weakref
 from dataclasses import dataclass
@@ -35,12 +36,12 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.linalg
 import scipy.sparse as sp
-from joblib import Parallel, delayed
 from threadpoolctl import threadpool_limits
 
 from ..._errors import ZERO_MODE, UnsupportedMethodError
 from ..._costs import cost
 from ..._numerics import EPS, available_bytes, fits_in_memory, format_bytes, require_memory
+from ..._parallel import current_parallelism, map_units, width
 from .._base import Assessment, Blocks, CorrelatorBackend
 from .._temperature import check_temperature
 from ._contour import inverse_sqrt_rule
@@ -84,13 +85,6 @@ class IllConditionedWarning(UserWarning):
     """V is nearly singular (tiny mass): many poles and slow solves; the results stay bounded."""
 
 
-def _cpu_count():
-    try:
-        return len(os.sched_getaffinity(0))
-    except AttributeError:  # pragma: no cover
-        return os.cpu_count() or 1
-
-
 class SparseBackend(CorrelatorBackend):
     """Correlator blocks of any network with sparse SPD V and M (no symmetry assumed).
 
@@ -104,7 +98,8 @@ class SparseBackend(CorrelatorBackend):
         Iteration limit of the solves (default: from κ); exceeding it raises
         :class:`~arealaw.ConvergenceError` with the residual reached.
     n_jobs : int, optional
-        Worker processes for column blocks (default: all cores, only for large problems).
+        Worker processes for column blocks when the caller installed no parallel setting
+        (:func:`arealaw._parallel.parallel_work`; default: all cores, only for large problems).
     block_size : int
         Right-hand sides per block of the multishift engine.
 
@@ -381,7 +376,7 @@ class SparseBackend(CorrelatorBackend):
 
     def _block_plan(self, n, n_rhs, nnz):
         """(block size, workers): equal blocks, a multiple of the workers, that fit in memory."""
-        n_jobs = self.n_jobs or (_cpu_count() if nnz * n_rhs > 2e8 and n_rhs > 1 else 1)
+        n_jobs = width(self.n_jobs or (-1 if nnz * n_rhs > 2e8 and n_rhs > 1 else 1))
         fit = int(0.5 * available_bytes() / (_BYTES_PER_ENTRY * n * n_jobs))
         bs = max(1, min(self.block_size, n_rhs, fit))
         n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
@@ -393,16 +388,17 @@ class SparseBackend(CorrelatorBackend):
             bs, n_jobs = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
             chunks = [slice(i, min(i + bs, n_rhs)) for i in range(0, n_rhs, bs)]
             n_jobs = min(n_jobs, len(chunks))
-            tasks = (delayed(_multishift_chunk)(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter)
-                     for sl in chunks)
-            if n_jobs > 1:
+            par = current_parallelism()
+            if n_jobs > 1 and (par is None or par.scheduler is None):
+                # local processes share this machine's memory (a cluster's workers their own)
                 require_memory(_BYTES_PER_ENTRY * a_bb.shape[0] * bs * n_jobs
                                + 40.0 * a_bb.nnz * n_jobs,
-                               f"{n_jobs} parallel multishift CG blocks", "set n_jobs=1")
-                out = Parallel(n_jobs=n_jobs, backend="loky")(tasks)
-            else:
-                out = [_multishift_chunk(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter)
-                       for sl in chunks]
+                               f"{n_jobs} parallel multishift CG blocks", "use workers=1 (--workers 1)")
+            # one unit per column block: each column's recurrence is independent of the others
+            # in its block, so any split (and any worker) gives the same numbers bit for bit
+            out = map_units(_multishift_chunk,
+                            [(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter) for sl in chunks],
+                            auto=n_jobs, stage="shifted solves")
             z = np.concatenate([o[0] for o in out], axis=2)
             resid = np.concatenate([o[1] for o in out], axis=1)
             return z, resid, max(o[2] for o in out)
