@@ -179,7 +179,7 @@ def _pinned(fn, args):
         return fn(*args)
 
 
-def map_units(fn, units, *, auto=1, stage=None, batch_size=1):
+def map_units(fn, units, *, auto=1, stage=None, batch_size=1, shared=()):
     """``[fn(*u) for u in units]``, run where :func:`parallel_work` says.
 
     Parameters
@@ -195,6 +195,10 @@ def map_units(fn, units, *, auto=1, stage=None, batch_size=1):
         (units run in this process report their own progress).
     batch_size : int
         Units per task sent to a worker (many tiny units: send them in batches).
+    shared : sequence
+        Arguments that every unit takes (the very same objects, e.g. the lattice's matrix): on
+        a cluster they are sent to every worker once, before the units, so that the scheduler
+        can place units on any worker (data held by one worker would draw every unit there).
 
     Returns
     -------
@@ -209,7 +213,8 @@ def map_units(fn, units, *, auto=1, stage=None, batch_size=1):
         from distributed import KilledWorker
         try:
             return _joblib_map(fn, units, stage, batch_size, backend="dask",
-                               options={"client": par.scheduler}, n_jobs=-1)
+                               options={"client": par.scheduler, "scatter": list(shared)},
+                               n_jobs=-1)
         except KilledWorker as exc:
             raise ConnectionError(f"a dask worker died computing a work unit ({exc}); is it "
                                   "out of memory? use fewer workers per machine, or no "

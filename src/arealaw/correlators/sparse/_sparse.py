@@ -398,7 +398,7 @@ class SparseBackend(CorrelatorBackend):
             # in its block, so any split (and any worker) gives the same numbers bit for bit
             out = map_units(_multishift_chunk,
                             [(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter) for sl in chunks],
-                            auto=n_jobs, stage="shifted solves")
+                            auto=n_jobs, stage="shifted solves", shared=(a_bb,))
             z = np.concatenate([o[0] for o in out], axis=2)
             resid = np.concatenate([o[1] for o in out], axis=1)
             return z, resid, max(o[2] for o in out)
