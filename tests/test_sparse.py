@@ -7,8 +7,9 @@ import pytest
 import scipy.sparse as sp
 from numpy.testing import assert_allclose
 
-from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy, from_sites,
-                     hypercubic)
+from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy,
+                     entropy_error_bound, from_sites, hypercubic, symplectic_spectrum,
+                     von_neumann_entropy)
 from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_correlators,
                                  get_backend)
 from arealaw.correlators.sparse._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
@@ -288,3 +289,43 @@ def test_huge_disordered_lattice_is_refused_without_assembly():
     with pytest.raises(UnsupportedMethodError, match="sparse: needs about .*GiB for 1000000000"):
         entropy(net, box(net, 3))
     assert net.is_deferred
+
+
+def _near_massless(shape):
+    # lowest eigenvalue ~m² = 1e-4 (masses m(1 + u), couplings J(1 + 0.5u')): κ ~ 1e5
+    return hypercubic(shape, mass=0.01, mass_disorder=0.01, coupling_disorder=0.5, seed=8,
+                      boundary="periodic")
+
+
+def test_engines_agree_on_near_massless_disorder_within_bounds():
+    # both engines against dense (exact interval: 512 sites) and each other, at κ ~ 1e5:
+    # |ΔS| within the sum of the bounds (common practice, no source)
+    net = _near_massless((8, 8, 8))
+    region = ball(net, 2.0)
+    ref = entropy(net, region, method="dense")
+    got = {}
+    for engine in ("multishift", "amg"):
+        b = SparseBackend(engine=engine).blocks(net, region.indices, tol=1e-10)
+        assert b.info["engine"] == engine and b.info["condition_number"] > 1e4
+        spec = symplectic_spectrum(b.x, b.p, x_error=b.x_error, p_error=b.p_error)
+        got[engine] = (von_neumann_entropy(spec), entropy_error_bound(spec))
+        s, bound = got[engine]
+        assert abs(s - ref.entropy) <= bound + ref.error_bound
+        assert abs(s - ref.entropy) <= 1e-8
+    (s1, e1), (s2, e2) = got["multishift"], got["amg"]
+    assert abs(s1 - s2) <= e1 + e2
+
+
+def test_auto_engine_follows_the_measured_costs():
+    # benchmarks/bench_engines.py: in 3-D at these sizes multishift CG wins at every mass
+    # (30-125x at 24³, m = 0.3 ... 0.01); the estimates agree, and auto takes the cheaper
+    backend = SparseBackend()
+    net = hypercubic((16, 16, 16), mass=0.01, mass_disorder=0.5, seed=1)
+    est = backend.engine_estimates(net, 100, tol=1e-10)
+    assert est["multishift"] < est["amg"]
+    rows = ball(net, 2.0).indices
+    assert backend.blocks(net, rows, tol=1e-10).info["engine"] == "multishift"
+    assert "multishift engine" in backend.assess(net, rows.size, tol=1e-10).reason
+    # a general (non-diagonal) M has only the AMG engine
+    name, gnet = CASES[-1]
+    assert set(backend.engine_estimates(gnet, 10, tol=1e-10)) == {"amg"}

@@ -93,10 +93,17 @@ COSTS = {
     "sparse.setup_nnz": CostConstant(
         2e-6, "second per nonzero of V (condition estimate, AMG setup)",
         f"{_BENCH} sparse-*", "2026-12-03"),
-    "sparse.amg_work_per_shift": CostConstant(
-        8.0, "matrix products per shift and per ln(2/ε) of AMG-preconditioned CG, against "
-        "½√κ for multishift CG", "algorithmic estimate (two-grid contraction ~0.9), not timed",
-        "2026-11-28"),
+    "sparse.amg_entry": CostConstant(
+        3.5e-8, "second per (nonzero × pole × right-hand side × AMG-CG iteration): one V-cycle "
+        "and one product on a single vector (100× a fused multishift CG column-iteration)",
+        "benchmarks/bench_engines.py (24³ and chains, both engines)", "2026-12-03"),
+    "sparse.amg_iterations": CostConstant(
+        0.4, "AMG-preconditioned CG iterations per solve (one pole, one column) per ln(2/tol)",
+        "benchmarks/bench_engines.py (8.7-11 iterations per solve at tol = 1e-10)",
+        "2026-12-03"),
+    "sparse.amg_setup": CostConstant(
+        8e-7, "second per (nonzero × pole) of a pyamg smoothed-aggregation hierarchy",
+        "benchmarks/bench_engines.py (24³, 40³ lattices: 1.1e-6, 6.6e-7)", "2026-12-03"),
     # partial waves (radial method)
     "radial.sector_cube": CostConstant(
         3e-9, "second per N_radial³ per angular momentum l (dense chain correlators)",

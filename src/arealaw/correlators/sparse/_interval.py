@@ -12,7 +12,7 @@ import scipy.linalg
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["gershgorin", "pencil_interval"]
+__all__ = ["exactly_symmetric", "gershgorin", "is_diagonal", "pencil_interval"]
 
 #: Pencils up to this size get their interval from a dense eigensolver.
 DENSE_INTERVAL_LIMIT = 1500
@@ -106,3 +106,14 @@ def is_diagonal(m):
     """True when the sparse matrix ``m`` has no off-diagonal entries."""
     c = sp.coo_matrix(m)
     return bool(np.all(c.row == c.col))
+
+
+def exactly_symmetric(a):
+    """True when the CSR matrix ``a`` equals its transpose entry for entry (its CSC form, which
+    is its transpose's CSR form, then has the same arrays)."""
+    if not (sp.isspmatrix_csr(a) or isinstance(a, sp.csr_array)) or not a.has_sorted_indices:
+        return False
+    c = a.tocsc()
+    c.sort_indices()
+    return (np.array_equal(a.indptr, c.indptr) and np.array_equal(a.indices, c.indices)
+            and np.array_equal(a.data, c.data))

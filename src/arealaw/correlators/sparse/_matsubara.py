@@ -25,7 +25,9 @@ from dataclasses import dataclass
 import mpmath
 import numpy as np
 
-__all__ = ["MatsubaraRule", "matsubara_rule"]
+from ._interval import gershgorin
+
+__all__ = ["MatsubaraRule", "matsubara_poles_estimate", "matsubara_rule"]
 
 _DIGITS = 40
 _MAX_GAUSS = 8
@@ -177,3 +179,20 @@ def matsubara_rule(lo, hi, temperature, *, tol, max_nodes=400):
     return MatsubaraRule(shifts, weights, lo, hi, t, int(n_kept + 1), int(m),
                          (abs_err + round_err) / _f(hi, t), abs_err + round_err,
                          hi * (abs_err + round_err))
+
+
+def matsubara_poles_estimate(network, temperature):
+    """About √λ_max/(2πT): the Matsubara terms the thermal rule keeps (measured: 115 for
+    λ_max = 13, T = 0.005, tol = 1e-10), from a cheap upper bound of λ_max(V, M)."""
+    lat = network.lattice
+    if network.is_deferred:
+        hi = lat.pencil_bounds()[1]
+    else:
+        hi = gershgorin(network.potential)[1]
+        m = network.kinetic
+        if m is not None:
+            m_lo = gershgorin(m)[0]
+            if m_lo <= 0:
+                return 0.0  # no cheap bound: blocks() decides from the exact interval
+            hi /= m_lo
+    return math.sqrt(hi) / (2 * math.pi * temperature)

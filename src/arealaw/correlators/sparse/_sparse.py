@@ -38,29 +38,24 @@ import scipy.linalg
 import scipy.sparse as sp
 from threadpoolctl import threadpool_limits
 
-from ..._errors import ZERO_MODE, UnsupportedMethodError
+from ..._errors import UnsupportedMethodError
 from ..._costs import cost
 from ..._numerics import EPS, available_bytes, fits_in_memory, format_bytes, require_memory
 from ..._parallel import current_parallelism, map_units, width
 from .._base import Assessment, Blocks, CorrelatorBackend
 from .._temperature import check_temperature
 from ._contour import inverse_sqrt_rule
-from ._interval import gershgorin, is_diagonal, pencil_interval
-from ._matsubara import matsubara_rule
+from ._interval import exactly_symmetric, gershgorin, is_diagonal, pencil_interval
+from ._matsubara import matsubara_poles_estimate, matsubara_rule
+from ._plan import block_plan, engine_seconds, has_diagonal_m, problem_size
 from ._shifted import amg_shifted_cg, multishift_cg
 
 __all__ = ["IllConditionedWarning", "SparseBackend"]
 
 #: Condition numbers above this trigger :class:`IllConditionedWarning`.
 ILL_CONDITIONED = 1e8
-#: Multishift CG costs ~½√κ ln(2/ε) matrix products per column, AMG-CG ~ 8 ln(2/ε) per shift.
-_AMG_WORK_PER_SHIFT = cost("sparse.amg_work_per_shift")
 #: Most poles of the thermal (Matsubara) rule; lower temperatures are refused.
 _MAX_THERMAL_POLES = 400
-#: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
-_BYTES_PER_ENTRY = 48.0
-
-
 @dataclass(frozen=True)
 class _Pencil:
     """What :meth:`SparseBackend._prepare` learns about (V, M) once per network.
@@ -131,41 +126,54 @@ class SparseBackend(CorrelatorBackend):
         if network.is_infinite:
             return Assessment(False, "the sparse method needs a finite network (V is not formed "
                                      "for an infinite lattice); use method='spectral'")
+        size = problem_size(network, n_rows, self._kappa_guess)
+        if isinstance(size, str):
+            return Assessment(False, size)
+        nnz, kappa, n_rhs = size
         n = network.n_sites
-        d = network.ndim or 3
-        if network.is_deferred:
-            # Huge lattices assemble V lazily: estimate from the description instead.
-            lat = network.lattice
-            nnz = float(n) * (2 * d + 1) + (float(n) if np.ndim(lat.inertia) else 0.0)
-            lo, hi = lat.pencil_bounds()
-            if not lo > 0:
-                return Assessment(False, ZERO_MODE)
-            kappa = hi / lo
-        else:
-            v = network.potential
-            if v is None:
-                return Assessment(False, "V of this lattice is too large to form; use "
-                                         "method='spectral'")
-            nnz = v.nnz + (0 if network.kinetic is None else network.kinetic.nnz)
-            kappa = self._kappa_guess(network)
         if temperature > 0:
-            poles = _matsubara_poles_estimate(network, temperature)
+            poles = matsubara_poles_estimate(network, temperature)
             if poles > _MAX_THERMAL_POLES:
                 return Assessment(False, f"temperature={temperature:g} is too low for the "
                                          f"Matsubara rule (about {poles:.0f} poles, limit "
                                          f"{_MAX_THERMAL_POLES}); use method='dense' or "
                                          "'spectral'")
-        n_rhs = min(n_rows, 2 * d * max(n_rows, 1) ** ((d - 1) / d)) if n_rows < n else 0
-        iters = 0.5 * math.sqrt(kappa) * math.log(2 / tol)
-        seconds = (cost("sparse.cg_entry") * nnz * n_rhs * iters
+        solves = engine_seconds(nnz, n_rhs, kappa, tol, diagonal_m=has_diagonal_m(network))
+        engine = self.engine if self.engine != "auto" else min(solves, key=solves.get)
+        if engine not in solves:  # multishift asked for a non-diagonal M: blocks() refuses
+            engine = "amg"
+        seconds = (solves[engine]
                    + cost("sparse.dense_cube") * float(n_rows) ** 3
                    + cost("sparse.overhead") + cost("sparse.setup_nnz") * nnz)
-        bs, jobs = self._block_plan(n, max(int(n_rhs), 1), nnz)
-        nbytes = _BYTES_PER_ENTRY * n * bs * jobs + 36.0 * nnz * (jobs + 1) + 8.0 * 3 * n_rows ** 2
+        bs, jobs, nbytes = self._block_plan(n, max(int(n_rhs), 1), nnz)
+        nbytes += 8.0 * 3 * n_rows ** 2  # dense core blocks
         if not fits_in_memory(nbytes):
-            return Assessment(False, f"needs about {format_bytes(nbytes)} for {n} sites", nbytes)
+            return Assessment(False, f"needs about {format_bytes(nbytes)} for {n} sites (the "
+                                     f"matrices and blocks of {bs} right-hand sides on {jobs} "
+                                     f"workers); {format_bytes(available_bytes())} available: "
+                                     "use a smaller lattice or free memory", nbytes)
         return Assessment(True, f"contour quadrature + shifted CG on {n} sites "
-                                f"(κ ≈ {kappa:.2g})", nbytes, seconds)
+                                f"(κ ≈ {kappa:.2g}, {engine} engine)", nbytes, seconds)
+
+    def engine_estimates(self, network, n_rows, *, tol):
+        """Estimated seconds of the shifted solves by each engine that can serve ``network``.
+
+        What ``engine='auto'`` compares (:func:`engine_seconds`; constants fitted to
+        ``benchmarks/bench_engines.py``): multishift CG only for diagonal M.
+
+        Examples
+        --------
+        >>> from arealaw import hypercubic
+        >>> est = SparseBackend().engine_estimates(hypercubic((16, 16, 16), mass=0.3), 100,
+        ...                                        tol=1e-10)
+        >>> sorted(est), bool(est["multishift"] < est["amg"])
+        (['amg', 'multishift'], True)
+        """
+        size = problem_size(network, n_rows, self._kappa_guess)
+        if isinstance(size, str):
+            raise UnsupportedMethodError(size)
+        nnz, kappa, n_rhs = size
+        return engine_seconds(nnz, n_rhs, kappa, tol, diagonal_m=has_diagonal_m(network))
 
     def _kappa_guess(self, network):
         ref, cached = self._cache
@@ -187,11 +195,14 @@ class SparseBackend(CorrelatorBackend):
             d = np.ones(v.shape[0]) if m is None else m.diagonal()
             if np.any(d <= 0):
                 raise ValueError("kinetic M is not positive definite (a diagonal entry is <= 0)")
-            s = sp.diags(1 / np.sqrt(d))
-            a = (s @ v @ s).tocsr()
-            a = 0.5 * (a + a.T)
+            if np.all(d == 1) and exactly_symmetric(v):
+                a = v  # M = I and V symmetric to the bit: A is V (no copy of a 10^7-site V)
+            else:
+                s = sp.diags(1 / np.sqrt(d))
+                a = (s @ v @ s).tocsr()
+                a = (0.5 * (a + a.T)).tocsr()
             lo, hi, info = pencil_interval(a)
-            prep = _Pencil(diag=True, a=a.tocsr(), d=d, lo=lo, hi=hi, interval=info)
+            prep = _Pencil(diag=True, a=a, d=d, lo=lo, hi=hi, interval=info)
         else:
             lo, hi, info = pencil_interval(v, m)
             m_lo, m_hi, _ = pencil_interval(m)
@@ -224,7 +235,7 @@ class SparseBackend(CorrelatorBackend):
                                   max_nodes=_MAX_THERMAL_POLES)
         else:
             rule = inverse_sqrt_rule(lo, hi, tol=0.25 * tol)
-        engine = self._choose_engine(prep, kappa, rule.n_nodes, tol)
+        engine = self._choose_engine(prep, kappa, rule.n_nodes, tol, network)
         if kappa > ILL_CONDITIONED:
             warnings.warn(f"V is ill-conditioned: condition number of the pencil (V, M) about "
                           f"{kappa:.3g}; using {rule.n_nodes} poles and the {engine!r} engine "
@@ -252,7 +263,7 @@ class SparseBackend(CorrelatorBackend):
                       x_dominant=hx[np.ix_(ri, ri)] if square and temperature == 0 else None,
                       p_dominant=hp[np.ix_(ri, ri)] if square and temperature == 0 else None)
 
-    def _choose_engine(self, prep, kappa, n_poles, tol):
+    def _choose_engine(self, prep, kappa, n_poles, tol, network):
         if self.engine != "auto":
             if self.engine == "multishift" and not prep.diag:
                 raise ValueError("engine='multishift' needs a diagonal kinetic matrix M; use "
@@ -260,7 +271,14 @@ class SparseBackend(CorrelatorBackend):
             return self.engine
         if not prep.diag:
             return "amg"
-        return "multishift" if 0.5 * math.sqrt(kappa) < _AMG_WORK_PER_SHIFT * n_poles else "amg"
+        # CG's iterations follow the lowest modes that the boundary columns excite: on a finite
+        # lattice about the gap of its Laplacian, ~hi/n^{2/d} (as _kappa_guess), however small
+        # the interval's lower end (bench_engines.py: 87 multishift iterations at κ = 1.2e5 on
+        # 24³).  Per right-hand side: the count of columns is the same for both engines.
+        d = network.ndim or 3
+        kappa_cg = min(kappa, max(network.n_sites, 2) ** (2.0 / d))
+        est = engine_seconds(prep.a.nnz, 1, kappa_cg, tol, diagonal_m=True, n_poles=n_poles)
+        return min(est, key=est.get)
 
     def _rtol(self, tol, kappa):
         if self.rtol is not None:
@@ -302,12 +320,22 @@ class SparseBackend(CorrelatorBackend):
                 "outer_rows": int(outer.size), "solver_rtol": rtol}
         n_s = shifts.size
         if rest.size and inner.size:
-            a_bb = a[rest][:, rest].tocsr()
-            a_bj = a[rest][:, core[inner]].tocsc()
+            a_rest = a[rest]
+            a_bj = a_rest[:, core[inner]].tocsc()
+            a_bb = a_rest[:, rest].tocsr()
+            del a_rest
+            solve_shifts = shifts
+            if engine == "multishift" and shifts.min() > 0:
+                # the seed system A_BB + σ₀I in place, once (the diagonal of an SPD matrix is
+                # stored): multishift_cg would form a copy per worker from σ₀ > 0 otherwise;
+                # the same sums, so the same iterates
+                seed = float(shifts.min())
+                a_bb.setdiag(a_bb.diagonal() + seed)
+                solve_shifts = shifts - seed
             m_bb = None if m is None else m[rest][:, rest].tocsr()
             m_bj = None if m is None else m[rest][:, core[inner]].tocsc()
-            z, resid, iters = self._solve(engine, a_bb, m_bb, a_bj, m_bj, shifts, outer_local,
-                                          rtol, maxiter)
+            z, resid, iters = self._solve(engine, a_bb, m_bb, a_bj, m_bj, solve_shifts,
+                                          outer_local, rtol, maxiter)
             info["iterations"] = int(iters)
             a_jr = a[core[inner]][:, outer].toarray()
             m_jr = None if m is None else m[core[inner]][:, outer].toarray()
@@ -375,25 +403,25 @@ class SparseBackend(CorrelatorBackend):
         return y_cc, y_sig, err, info
 
     def _block_plan(self, n, n_rhs, nnz):
-        """(block size, workers): equal blocks, a multiple of the workers, that fit in memory."""
-        n_jobs = width(self.n_jobs or (-1 if nnz * n_rhs > 2e8 and n_rhs > 1 else 1))
-        fit = int(0.5 * available_bytes() / (_BYTES_PER_ENTRY * n * n_jobs))
-        bs = max(1, min(self.block_size, n_rhs, fit))
-        n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
-        return math.ceil(n_rhs / n_chunks), n_jobs
+        """(block size, workers, peak bytes) of the multishift solves: see :func:`block_plan`."""
+        par = current_parallelism()
+        jobs = width(self.n_jobs or (-1 if nnz * n_rhs > 2e8 and n_rhs > 1 else 1))
+        chosen = self.n_jobs is not None or not (par is None or par.is_automatic)
+        return block_plan(n, n_rhs, nnz, block_size=self.block_size, n_jobs=jobs,
+                          may_reduce=not chosen)
 
     def _solve(self, engine, a_bb, m_bb, a_bj, m_bj, shifts, keep, rtol, maxiter):
         n_rhs = a_bj.shape[1]
         if engine == "multishift":
-            bs, n_jobs = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
+            bs, n_jobs, nbytes = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
             chunks = [slice(i, min(i + bs, n_rhs)) for i in range(0, n_rhs, bs)]
             n_jobs = min(n_jobs, len(chunks))
             par = current_parallelism()
-            if n_jobs > 1 and (par is None or par.scheduler is None):
+            if par is None or par.scheduler is None:
                 # local processes share this machine's memory (a cluster's workers their own)
-                require_memory(_BYTES_PER_ENTRY * a_bb.shape[0] * bs * n_jobs
-                               + 40.0 * a_bb.nnz * n_jobs,
-                               f"{n_jobs} parallel multishift CG blocks", "use workers=1 (--workers 1)")
+                require_memory(nbytes, f"multishift CG in {len(chunks)} blocks of {bs} right-hand "
+                               f"sides on {n_jobs} workers", "use a smaller lattice, free memory "
+                               "or workers=1 (--workers 1)")
             # one unit per column block: each column's recurrence is independent of the others
             # in its block, so any split (and any worker) gives the same numbers bit for bit
             out = map_units(_multishift_chunk,
@@ -449,23 +477,6 @@ class SparseBackend(CorrelatorBackend):
         hp = m_uc @ err["h_sig"] @ m_uc.T + rel * p + (
             8 * math.sqrt(core.size) * EPS * err["w_sum"] * max(1.0, m_norm ** 2)) * np.eye(ui.size)
         return x, p, x_err, p_err, hx, hp
-
-
-def _matsubara_poles_estimate(network, temperature):
-    """About √λ_max/(2πT): the Matsubara terms the thermal rule keeps (measured: 115 for
-    λ_max = 13, T = 0.005, tol = 1e-10), from a cheap upper bound of λ_max(V, M)."""
-    lat = network.lattice
-    if network.is_deferred:
-        hi = lat.pencil_bounds()[1]
-    else:
-        hi = gershgorin(network.potential)[1]
-        m = network.kinetic
-        if m is not None:
-            m_lo = gershgorin(m)[0]
-            if m_lo <= 0:
-                return 0.0  # no cheap bound: blocks() decides from the exact interval
-            hi /= m_lo
-    return math.sqrt(hi) / (2 * math.pi * temperature)
 
 
 def _norm2_bound(a):

@@ -1,0 +1,145 @@
+"""What the shifted solves will cost: the engines' run times, and blocks of right-hand sides that
+fit in memory.
+
+Both feed ``SparseBackend.assess`` (refusals and estimates from the shape and options, before
+anything is allocated) and ``SparseBackend.blocks`` (the engine that ``engine='auto'`` takes, the
+block size): the same numbers decide and estimate.  The time constants are in ``_costs.py``,
+fitted to ``benchmarks/bench_engines.py`` (engines) and ``benchmarks/bench_costs.py``.
+"""
+
+import math
+
+import numpy as np
+
+from ..._costs import cost
+from ..._errors import ZERO_MODE
+from ..._numerics import available_bytes
+from ._contour import hht_node_count
+from ._interval import is_diagonal
+
+__all__ = ["BLOCK_MEMORY_SHARE", "BYTES_PER_ENTRY", "BYTES_PER_NONZERO", "block_plan",
+           "engine_seconds", "has_diagonal_m", "problem_size"]
+
+#: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
+BYTES_PER_ENTRY = 48.0
+#: Bytes per stored nonzero of a CSR matrix: a float64 value and an int32 column index.
+BYTES_PER_NONZERO = 12.0
+#: Share of the available memory the right-hand-side blocks and the matrices may fill together
+#: (the rest stays free for the dense core blocks, other processes and the allocator's slack).
+BLOCK_MEMORY_SHARE = 0.5
+
+
+def engine_seconds(nnz, n_rhs, kappa, tol, *, diagonal_m=True, n_poles=None):
+    """Estimated seconds of the shifted solves: {'multishift': s, 'amg': s} ('amg' only for
+    non-diagonal M).
+
+    Multishift CG: ½√κ ln(2/tol) iterations (the CG bound), each a pass over the nonzeros per
+    column.  AMG-CG: one solve per pole and column, each
+    ``sparse.amg_iterations``·ln(2/tol) iterations of a V-cycle and a product, plus a hierarchy per
+    pole.  The bound on multishift iterations is pessimistic when κ comes from Gershgorin or the
+    lowest modes are few (measured up to 60× fewer, ``benchmarks/bench_engines.py``); AMG-CG's
+    count is close to measured, so the comparison errs towards AMG only where multishift's
+    bound, not its measured cost, is large.
+
+    Examples
+    --------
+    >>> est = engine_seconds(7e6, 300, 140.0, 1e-10)
+    >>> bool(est["multishift"] < est["amg"]), sorted(engine_seconds(7e6, 300, 140.0, 1e-10,
+    ...                                                               diagonal_m=False))
+    (True, ['amg'])
+    """
+    log = math.log(2 / tol)
+    if n_poles is None:
+        n_poles = hht_node_count(kappa, 0.25 * tol)
+    amg = (cost("sparse.amg_entry") * nnz * n_rhs * n_poles * cost("sparse.amg_iterations") * log
+           + cost("sparse.amg_setup") * nnz * n_poles)
+    if not diagonal_m:
+        return {"amg": amg}
+    multishift = cost("sparse.cg_entry") * nnz * n_rhs * 0.5 * math.sqrt(kappa) * log
+    return {"amg": amg, "multishift": multishift}
+
+
+def block_plan(n, n_rhs, nnz, *, block_size=32, n_jobs=1, may_reduce=True):
+    """(block size, workers, peak bytes) of the multishift solves on ``n`` sites.
+
+    Equal blocks of right-hand sides, a multiple of the workers, as large as ``block_size``
+    allows while the matrices and every worker's block fit in ``BLOCK_MEMORY_SHARE`` of the
+    available memory; then one worker (no matrix copy in shared memory) if ``may_reduce`` (the
+    count was not asked for), then single columns, before the caller refuses on the returned
+    peak.  The matrices: V, A_BB + σ₀I and the scaled A (A is
+    V itself when M = I), and with worker processes A_BB once more in shared memory (joblib maps
+    it into every worker); while they are sliced, before any block exists, one transient copy
+    more.  The blocks: ``BYTES_PER_ENTRY`` per site and column per worker.  Measured: 2.0 GiB
+    peak against 3.1 GiB planned on 100³, 6.1 GiB against 10.4 GiB on 215³ (README, "Memory of
+    the sparse path").
+
+    Examples
+    --------
+    >>> bs, jobs, peak = block_plan(10**6, 300, 7 * 10**6, block_size=32, n_jobs=1)
+    >>> bs <= 32 and jobs == 1 and peak > 12 * 7 * 10**6
+    True
+    """
+    matrix = BYTES_PER_NONZERO * nnz
+    index = 40.0 * n  # site masks, index arrays, the kept rows' maps
+    room = BLOCK_MEMORY_SHARE * available_bytes()
+
+    def solve_bytes(jobs, bs):
+        return matrix * (3 + (jobs > 1)) + index + BYTES_PER_ENTRY * n * bs * jobs
+
+    fit = int((room - solve_bytes(n_jobs, 0)) / (BYTES_PER_ENTRY * n * n_jobs))
+    if fit < 1 and n_jobs > 1 and may_reduce:
+        n_jobs = 1  # two blocks do not fit beside the matrices: one worker, no copy in shm
+        fit = int((room - solve_bytes(1, 0)) / (BYTES_PER_ENTRY * n))
+    bs = max(1, min(block_size, n_rhs, fit))
+    n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
+    bs = math.ceil(n_rhs / n_chunks)
+    peak = max(solve_bytes(n_jobs, bs), matrix * 4 + index)
+    return bs, n_jobs, peak
+
+
+def problem_size(network, n_rows, kappa_guess):
+    """(nonzeros, κ estimate, right-hand sides) of the solves for a region of ``n_rows`` sites,
+    from the network or, for a lattice not yet assembled, its description; or why there are
+    none (a message).  ``kappa_guess(network)`` estimates κ of an assembled network.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic
+    >>> nnz, kappa, n_rhs = problem_size(hypercubic((10, 10), mass=0.5), 16, lambda n: 10.0)
+    >>> nnz, kappa, n_rhs
+    (460, 10.0, 16.0)
+    """
+    n = network.n_sites
+    d = network.ndim or 3
+    if network.is_deferred:
+        # Huge lattices assemble V lazily: estimate from the description instead.
+        lat = network.lattice
+        nnz = float(n) * (2 * d + 1) + (float(n) if np.ndim(lat.inertia) else 0.0)
+        lo, hi = lat.pencil_bounds()
+        if not lo > 0:
+            return ZERO_MODE
+        kappa = hi / lo
+    else:
+        v = network.potential
+        if v is None:
+            return "V of this lattice is too large to form; use method='spectral'"
+        nnz = v.nnz + (0 if network.kinetic is None else network.kinetic.nnz)
+        kappa = kappa_guess(network)
+    # one right-hand side per inner-boundary site: about 2d n^{(d-1)/d} for a compact region
+    n_rhs = min(n_rows, 2 * d * max(n_rows, 1) ** ((d - 1) / d)) if n_rows < n else 0
+    return nnz, kappa, n_rhs
+
+
+def has_diagonal_m(network):
+    """True when M is diagonal (multishift CG can serve): lattices always, matrices if so.
+
+    Examples
+    --------
+    >>> from arealaw import hypercubic
+    >>> has_diagonal_m(hypercubic((4, 4), mass=1.0))
+    True
+    """
+    if network.is_deferred:
+        return True  # lattices have a diagonal M (the inertia)
+    m = network.kinetic
+    return m is None or is_diagonal(m)
