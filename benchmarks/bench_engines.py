@@ -96,10 +96,7 @@ def main(names):
         (t_ms, b_ms, s_ms, e_ms), (t_amg, b_amg, s_amg, e_amg) = out["multishift"], out["amg"]
         i = b_ms.info
         solves = i["poles"] * i["boundary_rhs"]
-        try:
-            est = SparseBackend(n_jobs=1).engine_estimates(net, region.size, tol=TOL)
-        except AttributeError:
-            est = {"multishift": float("nan"), "amg": float("nan")}
+        est = SparseBackend(n_jobs=1).engine_estimates(net, region.size, tol=TOL)
         auto = min(est, key=est.get)
         print(f"| {name} | {net.n_sites} | {i['condition_number']:.3g} | {i['poles']} | "
               f"{i['boundary_rhs']} | {t_ms:.3g} ({i['iterations']}) | "

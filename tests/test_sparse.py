@@ -326,6 +326,13 @@ def test_auto_engine_follows_the_measured_costs():
     rows = ball(net, 2.0).indices
     assert backend.blocks(net, rows, tol=1e-10).info["engine"] == "multishift"
     assert "multishift engine" in backend.assess(net, rows.size, tol=1e-10).reason
+    # a near-massless disordered chain of 20 000 sites: AMG-CG measured 6x faster (6.2 s against
+    # 38.5 s, bench_engines.py chain-20000-m0.001); multishift needs ~18 000 iterations there
+    chain = hypercubic((20000,), mass=0.001, mass_disorder=0.001, coupling_disorder=0.5, seed=1,
+                       boundary="periodic")
+    est = backend.engine_estimates(chain, 50, tol=1e-10)
+    assert est["amg"] < est["multishift"]
+    assert "amg engine" in backend.assess(chain, 50, tol=1e-10).reason
     # a general (non-diagonal) M has only the AMG engine
     name, gnet = CASES[-1]
     assert set(backend.engine_estimates(gnet, 10, tol=1e-10)) == {"amg"}

@@ -93,17 +93,29 @@ COSTS = {
     "sparse.setup_nnz": CostConstant(
         2e-6, "second per nonzero of V (condition estimate, AMG setup)",
         f"{_BENCH} sparse-*", "2026-12-03"),
+    "sparse.cg_step": CostConstant(
+        2e-4, "second per multishift CG iteration per block of right-hand sides (the "
+        "recurrence on the shifts' scalars and kept rows: numpy calls, not memory passes)",
+        "benchmarks/bench_engines.py chain-2000 (0.30 ms per iteration, 2 columns, load 5-12)",
+        "2026-12-03"),
     "sparse.amg_entry": CostConstant(
-        3.5e-8, "second per (nonzero × pole × right-hand side × AMG-CG iteration): one V-cycle "
-        "and one product on a single vector (100× a fused multishift CG column-iteration)",
-        "benchmarks/bench_engines.py (24³ and chains, both engines)", "2026-12-03"),
+        1e-8, "second per (nonzero × AMG-CG iteration) of one solve (V-cycle and product on "
+        "one vector), beside sparse.amg_step",
+        "benchmarks/bench_engines.py dirichlet-24-* (3.4 ms per iteration at 96 768 nonzeros)",
+        "2026-12-03"),
+    "sparse.amg_step": CostConstant(
+        2.5e-3, "second per AMG-CG iteration of one solve, whatever its size (scipy's CG loop "
+        "and pyamg's levels in Python)",
+        "benchmarks/bench_engines.py chain-2000 (2.8 ms per iteration at 6 000 nonzeros)",
+        "2026-12-03"),
     "sparse.amg_iterations": CostConstant(
         0.4, "AMG-preconditioned CG iterations per solve (one pole, one column) per ln(2/tol)",
-        "benchmarks/bench_engines.py (8.7-11 iterations per solve at tol = 1e-10)",
+        "benchmarks/bench_engines.py (8.7-11.3 iterations per solve at tol = 1e-10)",
         "2026-12-03"),
     "sparse.amg_setup": CostConstant(
         8e-7, "second per (nonzero × pole) of a pyamg smoothed-aggregation hierarchy",
-        "benchmarks/bench_engines.py (24³, 40³ lattices: 1.1e-6, 6.6e-7)", "2026-12-03"),
+        "pyamg setup timed on the 24³, 40³ lattices of benchmarks/bench_engines.py "
+        "(1.1e-6, 6.6e-7)", "2026-12-03"),
     # partial waves (radial method)
     "radial.sector_cube": CostConstant(
         3e-9, "second per N_radial³ per angular momentum l (dense chain correlators)",

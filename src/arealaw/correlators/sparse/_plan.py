@@ -29,33 +29,43 @@ BYTES_PER_NONZERO = 12.0
 BLOCK_MEMORY_SHARE = 0.5
 
 
-def engine_seconds(nnz, n_rhs, kappa, tol, *, diagonal_m=True, n_poles=None):
+def engine_seconds(nnz, n_rhs, kappa, tol, *, n_sites, ndim=3, diagonal_m=True, n_poles=None,
+                   block_size=32):
     """Estimated seconds of the shifted solves: {'multishift': s, 'amg': s} ('amg' only for
     non-diagonal M).
 
-    Multishift CG: ½√κ ln(2/tol) iterations (the CG bound), each a pass over the nonzeros per
-    column.  AMG-CG: one solve per pole and column, each
-    ``sparse.amg_iterations``·ln(2/tol) iterations of a V-cycle and a product, plus a hierarchy per
-    pole.  The bound on multishift iterations is pessimistic when κ comes from Gershgorin or the
-    lowest modes are few (measured up to 60× fewer, ``benchmarks/bench_engines.py``); AMG-CG's
-    count is close to measured, so the comparison errs towards AMG only where multishift's
-    bound, not its measured cost, is large.
+    Multishift CG: min(½√κ' ln(2/tol), n) iterations (the CG bound, and CG's termination within
+    as many steps as distinct eigenvalues), with κ' = min(κ, n^{2/d}): CG follows the lowest
+    modes that the boundary columns excite, on a finite lattice about the gap of its Laplacian,
+    ~λ_max/n^{2/d}, however small the interval's lower end (a Gershgorin bound) is.  Each is a
+    pass over the nonzeros per column plus the recurrence on the shifts per block of
+    ``block_size`` columns.  AMG-CG: one solve per pole and
+    column, each ``sparse.amg_iterations``·ln(2/tol) iterations of a V-cycle and a product,
+    plus a hierarchy per pole (κ, not κ', sets the poles).  Measured 80-200 multishift
+    iterations against an estimate of 280 on 24³ at m = 0.3 ... 0.01 (κ up to 1.7e5); the AMG
+    count is close to measured.  Constants and the crossover: ``benchmarks/bench_engines.py``.
 
     Examples
     --------
-    >>> est = engine_seconds(7e6, 300, 140.0, 1e-10)
-    >>> bool(est["multishift"] < est["amg"]), sorted(engine_seconds(7e6, 300, 140.0, 1e-10,
-    ...                                                               diagonal_m=False))
-    (True, ['amg'])
+    >>> est = engine_seconds(7e6, 300, 1e5, 1e-10, n_sites=10**6)  # near-massless 100³
+    >>> bool(est["multishift"] < est["amg"])
+    True
+    >>> chain = engine_seconds(6e4, 2, 6e6, 1e-10, n_sites=20000, ndim=1)  # near-massless
+    >>> bool(chain["amg"] < chain["multishift"])
+    True
     """
     log = math.log(2 / tol)
     if n_poles is None:
         n_poles = hht_node_count(kappa, 0.25 * tol)
-    amg = (cost("sparse.amg_entry") * nnz * n_rhs * n_poles * cost("sparse.amg_iterations") * log
+    amg_iters = n_rhs * n_poles * cost("sparse.amg_iterations") * log
+    amg = (amg_iters * (cost("sparse.amg_entry") * nnz + cost("sparse.amg_step"))
            + cost("sparse.amg_setup") * nnz * n_poles)
     if not diagonal_m:
         return {"amg": amg}
-    multishift = cost("sparse.cg_entry") * nnz * n_rhs * 0.5 * math.sqrt(kappa) * log
+    kappa_cg = min(kappa, max(n_sites, 2) ** (2.0 / ndim))
+    iters = min(0.5 * math.sqrt(kappa_cg) * log, float(n_sites))
+    multishift = iters * (cost("sparse.cg_entry") * nnz * n_rhs
+                          + cost("sparse.cg_step") * math.ceil(max(n_rhs, 1) / block_size))
     return {"amg": amg, "multishift": multishift}
 
 

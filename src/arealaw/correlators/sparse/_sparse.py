@@ -138,7 +138,9 @@ class SparseBackend(CorrelatorBackend):
                                          f"Matsubara rule (about {poles:.0f} poles, limit "
                                          f"{_MAX_THERMAL_POLES}); use method='dense' or "
                                          "'spectral'")
-        solves = engine_seconds(nnz, n_rhs, kappa, tol, diagonal_m=has_diagonal_m(network))
+        solves = engine_seconds(nnz, n_rhs, kappa, tol, n_sites=network.n_sites,
+                                ndim=network.ndim or 3, diagonal_m=has_diagonal_m(network),
+                                block_size=self.block_size)
         engine = self.engine if self.engine != "auto" else min(solves, key=solves.get)
         if engine not in solves:  # multishift asked for a non-diagonal M: blocks() refuses
             engine = "amg"
@@ -173,7 +175,9 @@ class SparseBackend(CorrelatorBackend):
         if isinstance(size, str):
             raise UnsupportedMethodError(size)
         nnz, kappa, n_rhs = size
-        return engine_seconds(nnz, n_rhs, kappa, tol, diagonal_m=has_diagonal_m(network))
+        return engine_seconds(nnz, n_rhs, kappa, tol, n_sites=network.n_sites,
+                              ndim=network.ndim or 3, diagonal_m=has_diagonal_m(network),
+                              block_size=self.block_size)
 
     def _kappa_guess(self, network):
         ref, cached = self._cache
@@ -235,7 +239,7 @@ class SparseBackend(CorrelatorBackend):
                                   max_nodes=_MAX_THERMAL_POLES)
         else:
             rule = inverse_sqrt_rule(lo, hi, tol=0.25 * tol)
-        engine = self._choose_engine(prep, kappa, rule.n_nodes, tol, network)
+        engine = self._choose_engine(prep, kappa, rule.n_nodes, tol, network, union.size)
         if kappa > ILL_CONDITIONED:
             warnings.warn(f"V is ill-conditioned: condition number of the pencil (V, M) about "
                           f"{kappa:.3g}; using {rule.n_nodes} poles and the {engine!r} engine "
@@ -263,7 +267,7 @@ class SparseBackend(CorrelatorBackend):
                       x_dominant=hx[np.ix_(ri, ri)] if square and temperature == 0 else None,
                       p_dominant=hp[np.ix_(ri, ri)] if square and temperature == 0 else None)
 
-    def _choose_engine(self, prep, kappa, n_poles, tol, network):
+    def _choose_engine(self, prep, kappa, n_poles, tol, network, n_rows):
         if self.engine != "auto":
             if self.engine == "multishift" and not prep.diag:
                 raise ValueError("engine='multishift' needs a diagonal kinetic matrix M; use "
@@ -271,13 +275,9 @@ class SparseBackend(CorrelatorBackend):
             return self.engine
         if not prep.diag:
             return "amg"
-        # CG's iterations follow the lowest modes that the boundary columns excite: on a finite
-        # lattice about the gap of its Laplacian, ~hi/n^{2/d} (as _kappa_guess), however small
-        # the interval's lower end (bench_engines.py: 87 multishift iterations at κ = 1.2e5 on
-        # 24³).  Per right-hand side: the count of columns is the same for both engines.
-        d = network.ndim or 3
-        kappa_cg = min(kappa, max(network.n_sites, 2) ** (2.0 / d))
-        est = engine_seconds(prep.a.nnz, 1, kappa_cg, tol, diagonal_m=True, n_poles=n_poles)
+        n_rhs = problem_size(network, n_rows, lambda _: kappa)[2]
+        est = engine_seconds(prep.a.nnz, n_rhs, kappa, tol, n_sites=network.n_sites,
+                             ndim=network.ndim or 3, n_poles=n_poles, block_size=self.block_size)
         return min(est, key=est.get)
 
     def _rtol(self, tol, kappa):
