@@ -336,3 +336,27 @@ def test_auto_engine_follows_the_measured_costs():
     # a general (non-diagonal) M has only the AMG engine
     name, gnet = CASES[-1]
     assert set(backend.engine_estimates(gnet, 10, tol=1e-10)) == {"amg"}
+
+
+def test_block_plan_counts_the_matrices_and_refuses_up_front(monkeypatch):
+    # a 215³ lattice (10^7 sites, 7e7 nonzeros, ~354 boundary columns of a ball r = 6): the
+    # blocks get what the matrices leave of half the available memory; one worker, then
+    # single columns, and then a refusal from the description alone (nothing assembled)
+    from arealaw import _numerics
+    from arealaw.correlators.sparse import _plan
+    n, nnz, cols = 215 ** 3, 7 * 215 ** 3, 354
+    for avail in (16e9, 64e9):
+        monkeypatch.setattr(_plan, "available_bytes", lambda a=avail: a)
+        bs, jobs, peak = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2)
+        assert jobs == 2 and 1 <= bs <= 32 and peak <= _plan.BLOCK_MEMORY_SHARE * avail
+        assert peak >= 3 * _plan.BYTES_PER_NONZERO * nnz + _plan.BYTES_PER_ENTRY * n * bs * 2
+    monkeypatch.setattr(_plan, "available_bytes", lambda: 4e9)
+    bs, jobs, peak = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2)
+    assert (bs, jobs) == (1, 1) and peak > 2e9
+    bs, jobs, _ = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2, may_reduce=False)
+    assert jobs == 2  # a count the caller asked for is kept (and refused if it does not fit)
+    monkeypatch.setattr(_numerics, "available_bytes", lambda: 4e9)
+    net = hypercubic((215, 215, 215), mass=0.3, mass_disorder=0.5, seed=1)
+    verdict = SparseBackend().assess(net, 925, tol=1e-10)
+    assert not verdict.ok and "needs about" in verdict.reason and "right-hand sides" in verdict.reason
+    assert net.is_deferred

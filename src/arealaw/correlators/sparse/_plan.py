@@ -116,8 +116,8 @@ def problem_size(network, n_rows, kappa_guess):
     --------
     >>> from arealaw import hypercubic
     >>> nnz, kappa, n_rhs = problem_size(hypercubic((10, 10), mass=0.5), 16, lambda n: 10.0)
-    >>> nnz, kappa, n_rhs
-    (460, 10.0, 16.0)
+    >>> nnz, kappa, round(n_rhs)
+    (460, 10.0, 16)
     """
     n = network.n_sites
     d = network.ndim or 3
