@@ -35,7 +35,7 @@ def local_cluster(workers):
     # no memory limit: the benchmark measures speed, and a worker holding one large column block
     # must not be paused or restarted by the nanny's default thresholds
     cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
-                           host="127.0.0.1", dashboard_address=None, memory_limit=0)
+                           host="127.0.0.1", dashboard_address=":0", memory_limit=0)
     client = Client(cluster)
     small, region = disordered_case(side=10, radius=2.2)
     entropy(small, region, method="sparse", tol=TOL, scheduler=client)  # warm the workers

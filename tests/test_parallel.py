@@ -110,7 +110,7 @@ def test_sparse_blocks_equal_for_any_split():
 def cluster():
     distributed = pytest.importorskip("distributed")
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                  host="127.0.0.1", dashboard_address=None) as cl:
+                                  host="127.0.0.1", dashboard_address=":0") as cl:
         yield cl
 
 
@@ -145,6 +145,18 @@ def test_cli_scheduler_address_and_negativity(cluster, capsys):
     on_cluster = logarithmic_negativity(net, a, b, method="sparse",
                                         scheduler=cluster.scheduler_address)
     assert on_cluster.log_negativity == serial.log_negativity
+
+
+def test_cluster_without_workers_one_line(monkeypatch):
+    distributed = pytest.importorskip("distributed")
+    import arealaw._parallel as parallel
+    monkeypatch.setattr(parallel, "WAIT_FOR_WORKERS", 0.5)
+    with distributed.LocalCluster(n_workers=0, processes=False, host="127.0.0.1",
+                                  protocol="tcp", dashboard_address=":0") as empty, \
+            distributed.Client(empty) as client:
+        with parallel_work(parallelism(scheduler=client)), \
+                pytest.raises(ConnectionError, match="has no workers .waited 0.5 s"):
+            map_units(os.getpid, [()] * 2)
 
 
 @pytest.mark.parametrize("argv, words", [

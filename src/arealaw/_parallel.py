@@ -36,6 +36,8 @@ __all__ = ["Parallelism", "connect", "current_parallelism", "map_units", "parall
 
 #: Seconds :func:`connect` tries to reach a scheduler by default.
 CONNECT_TIMEOUT = 20.0
+#: Seconds work units wait for a cluster without workers to get one before giving up.
+WAIT_FOR_WORKERS = 10.0
 
 _CURRENT = contextvars.ContextVar("arealaw_parallelism", default=None)
 
@@ -85,7 +87,7 @@ def parallelism(workers=None, scheduler=None):
     >>> parallelism(workers=2, scheduler="tcp://head:8786")
     Traceback (most recent call last):
     ...
-    ValueError: give workers=2 or scheduler='tcp://head:8786', not both (workers are local processes, the scheduler's workers are a cluster's)
+    ValueError: give workers=2 or scheduler='tcp://head:8786', not both
     """
     if isinstance(workers, Parallelism) and scheduler is None:
         return workers
@@ -101,9 +103,8 @@ def parallelism(workers=None, scheduler=None):
             raise ValueError(f"scheduler must be an address such as 'tcp://head-node:8786' or a "
                              f"distributed.Client, got {type(scheduler).__name__}")
         if workers is not None:
-            raise ValueError(f"give workers={workers} or scheduler={scheduler!r}, not both "
-                             "(workers are local processes, the scheduler's workers are a "
-                             "cluster's)")
+            # local processes or a cluster's workers: one place for the units, not two
+            raise ValueError(f"give workers={workers} or scheduler={scheduler!r}, not both")
     return Parallelism(workers, scheduler)
 
 
@@ -213,8 +214,15 @@ def map_units(fn, units, *, auto=1, stage=None, batch_size=1, shared=()):
         from distributed import KilledWorker
         try:
             return _joblib_map(fn, units, stage, batch_size, backend="dask",
-                               options={"client": par.scheduler, "scatter": list(shared)},
+                               options={"client": par.scheduler, "scatter": list(shared),
+                                        "wait_for_workers_timeout": WAIT_FOR_WORKERS},
                                n_jobs=-1)
+        except TimeoutError:
+            if sum(par.scheduler.ncores().values()):
+                raise
+            raise ConnectionError(f"the dask scheduler has no workers (waited "
+                                  f"{WAIT_FOR_WORKERS:g} s); start some with 'dask worker "
+                                  "ADDRESS'") from None
         except KilledWorker as exc:
             raise ConnectionError(f"a dask worker died computing a work unit ({exc}); is it "
                                   "out of memory? use fewer workers per machine, or no "
