@@ -62,7 +62,7 @@ def test_product_state_has_zero_negativity():
     a, b = al.from_sites(net, [0, 1, 2, 3]), al.from_sites(net, [4, 5, 6])
     res = al.logarithmic_negativity(net, a, b, method="dense")
     # exact value 0 within the bound; the bound stays at rounding level (it carries the dense
-    # backend's orthogonality model 2N·ε relative to ‖X‖, ‖P‖)
+    # backend's rounding models, relative to ‖X‖, ‖P‖)
     assert 0.0 <= res.log_negativity <= res.error_bound < 1e-11
     coupled = al.OscillatorNetwork(v + np.diag(np.full(11, -0.2), 1) + np.diag(np.full(11, -0.2),
                                                                              -1), m)

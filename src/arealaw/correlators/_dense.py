@@ -11,6 +11,7 @@ from .._errors import ZERO_MODE, UnsupportedMethodError
 from .._costs import cost
 from .._numerics import EPS, fits_in_memory, format_bytes, require_memory
 from ._base import Assessment, Blocks, CorrelatorBackend
+from ._polar import exact_gram_deviation, polar_corrected
 from ._temperature import check_temperature, coth_factor
 
 __all__ = ["DenseBackend", "backward_error", "dense_correlators", "dominant_blocks"]
@@ -79,16 +80,31 @@ def dense_correlators(network, *, temperature=0.0):
         raise ValueError(
             f"potential V is not positive definite (smallest eigenvalue of M^-1/2 V M^-1/2 is "
             f"{lam[0]:.3g}); {ZERO_MODE}")
-    omega = np.sqrt(lam)
-    coth = coth_factor(omega, temperature)
-    # ω/c and ω·c are ω itself at T = 0 (c = 1.0 exactly): the ground state bit for bit
-    x = 0.5 * (u / (omega / coth)) @ u.T
-    p = 0.5 * (u * (omega * coth)) @ u.T
+    if network.kinetic is None and scipy.sparse.issparse(network.potential):
+        del k, v   # the residual is formed with the sparse V
+        k = None
+    # U is replaced by U' within a proven δ of its orthogonal polar factor Q (the basis of the
+    # backward-error lemma): X̂ = ½U'DU'ᵀ then differs from ½QDQᵀ by a δ-sized term (below),
+    # where ½UDUᵀ differed by ‖UᵀU − I‖·‖D‖, hundreds of ε times ‖X‖ (seen: 7.9e-14 on a 6-site
+    # network; 2.4e-13 on a 2000-site chain, where ‖X‖ = 318; δ there is 9e-15)
+    basis, eta, delta = polar_corrected(u)
+    if not delta < 0.5:
+        raise ValueError(f"the eigenvectors of M^-1/2 V M^-1/2 lost orthogonality (‖UᵀU − I‖ up to "
+                         f"{eta:.3g}); the dense method cannot certify this network")
     # A posteriori: each computed λ_i has an exact eigenvalue within its residual ‖K u_i − λ_i u_i‖
     # (plus the loss of orthogonality); X and P errors follow from 1/√λ and √λ mode by mode.
     res, res_round = _residual(network, k, u, lam)
+    # A posteriori backward error (see :func:`backward_error`): the computed pairs are exact
+    # for some K + E with ‖E‖ ≤ β (in the basis Q).
+    budget = backward_error(res, u, res_round, scale, orthogonality=eta)
     resid = np.linalg.norm(res, axis=0) + res_round
-    dlam = resid + np.sqrt(n) * EPS * scale * (1 + np.abs(np.diag(u.T @ u) - 1).max() / EPS)
+    del res, u, k
+    omega = np.sqrt(lam)
+    coth = coth_factor(omega, temperature)
+    # ω/c and ω·c are ω itself at T = 0 (c = 1.0 exactly): the ground state bit for bit
+    x = 0.5 * (basis / (omega / coth)) @ basis.T
+    p = 0.5 * (basis * (omega * coth)) @ basis.T
+    dlam = resid + np.sqrt(n) * EPS * scale * (1 + 2 * delta / EPS)
     if np.any(dlam >= lam / 2):
         raise ValueError(f"potential V is too ill-conditioned for the dense method (condition "
                          f"number {scale / lam[0]:.3g}); increase the mass")
@@ -100,28 +116,22 @@ def dense_correlators(network, *, temperature=0.0):
     p_err = float(np.max(0.5 * (w_hi * coth_factor(w_hi, temperature) - omega * coth))) \
         + n * EPS * omega[-1] * coth[-1]
     dominant = None
-    # A posteriori backward error (see :func:`backward_error`): the computed pairs are exact
-    # for some K + E with ‖E‖ ≤ β.  Then −β ⪯ E ⪯ β and, K ± β commuting with K and t^{∓1/2}
-    # being operator monotone, X̂ − X is dominated in Loewner order by
-    # H = ½ U diag((λ − β)^{-1/2} − λ^{-1/2}) Uᵀ (P̂ − P by ½ U diag(√λ − √(λ−β)) Uᵀ, the wider
-    # side of each mode's interval since √ is concave): errors relative to the actual
+    # Then −β ⪯ E ⪯ β and, K ± β commuting with K and t^{∓1/2} being operator monotone,
+    # ½QDQᵀ − X is dominated in Loewner order by
+    # H = ½ Q diag((λ − β)^{-1/2} − λ^{-1/2}) Qᵀ (the P side by ½ Q diag(√λ − √(λ−β)) Qᵀ, the
+    # wider side of each mode's interval since √ is concave): errors relative to the actual
     # matrices, mode by mode, instead of ‖X‖-sized ones.
-    budget = backward_error(res, u, res_round, scale)
-    del res
     beta = budget["residual"] + budget["rounding"] + m_beta
-    # X̂ = ½ U D Uᵀ is formed with U, not with its orthogonal polar factor Q (U = QS, Φ = S − I,
-    # ‖Φ‖ ≤ ‖UᵀU − I‖ ≤ η).  When eigenvalues cluster η reaches hundreds of ε (seen: 7.9e-14
-    # on a 6-site network), far above the √N·ε rounding model, so it gets its own term:
-    # S D S − D = ΦD + DΦ + ΦDΦ and ±(ΦD + DΦ) ⪯ εD + ΦDΦ/ε for any ε > 0, so
-    # ±(X̂ − QDQᵀ) ⪯ εQDQᵀ + (1 + 1/ε)η²‖D‖ I, and with QDQᵀ ⪯ X̂ + H:
-    # H_polar = (ε X̂ + (1 + 1/ε) η² ‖D‖ I) / (1 − ε), relative to X̂ itself.  ε is chosen to
-    # balance the two parts' effect on t (tr(ε X̂ P) against η²‖D‖ tr P / ε, with
+    # X̂ = ½ U' D U'ᵀ is formed with U' = Q + Δ, ‖Δ‖ ≤ δ: U'DU'ᵀ − QDQᵀ = ΔDQᵀ + QDΔᵀ + ΔDΔᵀ
+    # and ±(ΔDQᵀ + QDΔᵀ) ⪯ εQDQᵀ + ΔDΔᵀ/ε for any ε > 0, so
+    # ±(X̂ − ½QDQᵀ) ⪯ ε·½QDQᵀ + (1 + 1/ε) δ² ‖½D‖ I; solving the lower side for ½QDQᵀ gives
+    # H_polar = (ε X̂ + (1 + 1/ε) δ² ‖½D‖ I) / (1 − ε), relative to X̂ itself.  ε is chosen to
+    # balance the two parts' effect on t (tr(ε X̂ P) against δ²‖½D‖ tr P / ε, with
     # tr(X̂P) ≈ n/4 and tr P ≈ n·mean P_ii); any ε in (0, 1) is rigorous.
-    eta = budget["orthogonality_model"]
     x_norm = 0.5 * float(np.max(coth / omega))
     p_norm = 0.5 * float(np.max(omega * coth))
-    x_err += (2 * eta + eta * eta) * x_norm
-    p_err += (2 * eta + eta * eta) * p_norm
+    x_err += (2 * delta + delta * delta) * x_norm
+    p_err += (2 * delta + delta * delta) * p_norm
     if beta < lam[0] / 2:
         # At T > 0, f(t) = coth(√t/2T)/√t = 2T Σ_n 1/(t + (2πnT)²) is operator monotone
         # decreasing and g(t) = √t coth(√t/2T) = 2T Σ_n t/(t + (2πnT)²) increasing (Matsubara
@@ -132,18 +142,19 @@ def dense_correlators(network, *, temperature=0.0):
         g_lo = w_lo * coth_factor(w_lo, temperature)
         hx = 0.5 * (coth_factor(w_lo, temperature) / w_lo - coth / omega)
         hp = 0.5 * (omega * coth - g_lo)
-        ux = up = u
-        # H itself is written with U: U h Uᵀ − Q h Qᵀ ≤ (2η + η²)‖h‖ in norm
-        x_shift = (2 * eta + eta * eta) * float(np.max(hx))
-        p_shift = (2 * eta + eta * eta) * float(np.max(hp))
+        ux = up = basis
+        # H itself is written with U': U' h U'ᵀ − Q h Qᵀ ≤ (2δ + δ²)‖h‖ in norm
+        x_shift = (2 * delta + delta * delta) * float(np.max(hx))
+        p_shift = (2 * delta + delta * delta) * float(np.max(hp))
         mi2 = mh2 = 1.0
         if m_half is not None:
             # congruence keeps the Loewner order: H_X = M^{-1/2} (H + cI) M^{-1/2}, and
             # M^{-1} ⪯ ‖M^{-1/2}‖² I
-            ux, up = m_inv_half @ u, m_half @ u
+            ux, up = m_inv_half @ basis, m_half @ basis
             mi2 = float(np.linalg.norm(m_inv_half, 2)) ** 2
             mh2 = float(np.linalg.norm(m_half, 2)) ** 2
-        dominant = [ux, hx, up, hp, x_shift * mi2, p_shift * mh2, eta, x_norm * mi2, p_norm * mh2]
+        dominant = [ux, hx, up, hp, x_shift * mi2, p_shift * mh2, delta, x_norm * mi2,
+                    p_norm * mh2]
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -155,7 +166,8 @@ def dense_correlators(network, *, temperature=0.0):
         dominant = tuple(dominant) + (x, p)
     return x, p, {"omega_min": float(omega[0]), "omega_max": float(omega[-1]),
                   "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature,
-                  "backward_error": beta, "backward_error_budget": dict(budget, kinetic=m_beta),
+                  "backward_error": beta, "backward_error_budget": dict(budget, kinetic=m_beta,
+                                                               basis_deviation=delta),
                   "dominant": dominant}
 
 
@@ -181,7 +193,7 @@ def _residual(network, k, u, lam):
     return res, np.full(n, 2 * math.sqrt(n) * EPS * scale)
 
 
-def backward_error(res, u, res_round, scale):
+def backward_error(res, u, res_round, scale, *, orthogonality=None):
     """Bound β on ‖E‖₂ such that the computed pairs (Λ, U) are exact for K + E, with its budget.
 
     Lemma (proved here).  Let G = UᵀU = S² with ‖G − I‖₂ ≤ η < 1, Q = U S⁻¹ (orthogonal) and
@@ -194,36 +206,40 @@ def backward_error(res, u, res_round, scale):
     orthogonality therefore enters only through c(η), not as ‖K‖·η.
 
     ‖R‖₂ is bounded rigorously from the computed residual R̂: the smallest of ‖R̂‖_F,
-    √(‖R̂‖₁‖R̂‖∞) and ‖R̂ᵀR̂‖_F^{1/2} (λ_max(RᵀR) ≤ ‖RᵀR‖_F; the rounding of forming R̂ᵀR̂ is at
-    most γ_N·‖R̂‖_F² in Frobenius norm, by Cauchy–Schwarz on each entry), plus the residual's own
-    rounding.  η is bounded crudely but rigorously from fl(UᵀU) (entry rounding ≤ γ_N by
-    Cauchy–Schwarz, so ≤ N·γ_N in Frobenius norm); only c(η) ≈ 1 needs it.
+    √(‖R̂‖₁‖R̂‖∞), ‖R̂ᵀR̂‖_F^{1/2} and ‖(R̂ᵀR̂)²‖_F^{1/4} (λ_max(RᵀR)^k ≤ ‖(RᵀR)^k‖_F; the rounding
+    of forming R̂ᵀR̂ is at most γ_N·‖R̂‖_F² in Frobenius norm, by Cauchy–Schwarz on each entry, and
+    that of squaring it γ_N·‖R̂ᵀR̂‖_F²), plus the residual's own rounding.  η (``orthogonality``) is a proven bound: by default from the error-free Gram
+    matrix of :func:`~arealaw.correlators._polar.exact_gram_deviation`; only c(η) ≈ 1 needs it.
 
     Models (not worst-case proofs; Higham & Mary 2019, SIAM J. Sci. Comput. 41(5), A2815, show
     that independent roundings grow like √N·ε with high probability): the residual's rounding
     as a matrix is taken as twice its largest column bound (iid-noise matrices have
     ‖·‖₂ ≈ 2 × column norm; the column bounds themselves are proofs for sparse K); the rounding
-    of forming ½UDUᵀ is taken as an equivalent ‖E‖ of √N·ε·‖K‖.  The difference between U and
-    its orthogonal polar factor Q in it is not a model: :func:`dense_correlators` adds
-    (2η + η²)‖D‖ for it.
+    of forming ½UDUᵀ is taken as an equivalent ‖E‖ of √N·ε·‖K‖.  The difference between the
+    basis X̂ is formed with and Q is not a model: :func:`dense_correlators` forms X̂ with the
+    polar-corrected U' (:func:`~arealaw.correlators._polar.polar_corrected`) and adds a Loewner
+    term for ‖U' − Q‖ ≤ δ.
     """
     n = u.shape[0]
     gamma = n * EPS / (1 - n * EPS)
     fro = float(np.linalg.norm(res))
     gram = res.T @ res
-    by_gram = math.sqrt(float(np.linalg.norm(gram)) + gamma * fro ** 2)
+    gram_fro = float(np.linalg.norm(gram))
+    by_gram = math.sqrt(gram_fro + gamma * fro ** 2)
+    # one squaring more: λ_max(G) ≤ ‖G²‖_F^{1/2} for the symmetrised G, whose distance to RᵀR
+    # is at most γ_N‖R̂‖_F² + ε‖G‖_F; fl(G²) is off by at most γ_N‖G‖_F² in Frobenius norm
+    gram = 0.5 * (gram + gram.T)
+    square = float(np.linalg.norm(gram @ gram))
     del gram
+    by_square = math.sqrt(math.sqrt(square + gamma * gram_fro ** 2) * (1 + 2 * n * EPS)
+                          + gamma * fro ** 2 + EPS * gram_fro)
     by_sums = math.sqrt(float(np.abs(res).sum(axis=0).max()) * float(np.abs(res).sum(axis=1).max()))
-    r_norm = min(fro, by_sums, by_gram)
-    g = u.T @ u
-    g[np.diag_indices(n)] -= 1.0
-    g_fro = float(np.linalg.norm(g))
-    eta = g_fro + n * gamma
-    # ‖G − I‖₂ ≤ ‖(G − I)²‖_F^{1/2} (+ the rounding of the square, γ_N‖G − I‖_F² by
-    # Cauchy–Schwarz): a factor up to N^{1/4} below the Frobenius norm
-    g_sq = float(np.linalg.norm(g @ g))
-    gram_dev = min(g_fro, math.sqrt(g_sq + gamma * g_fro ** 2))
-    del g
+    r_norm = min(fro, by_sums, by_gram, by_square)
+    eta = orthogonality
+    if eta is None:
+        psi, e_g = exact_gram_deviation(u)
+        eta = float(np.linalg.norm(psi)) * (1 + 2 * n * EPS) + e_g
+        del psi
     if eta >= 0.5:
         raise ValueError(f"the eigenvectors of M^-1/2 V M^-1/2 lost orthogonality (‖UᵀU − I‖ up to "
                          f"{eta:.3g}); the dense method cannot certify this network")
@@ -232,9 +248,6 @@ def backward_error(res, u, res_round, scale):
     rounding_res = 2.0 * float(np.max(res_round))
     return {"residual": (r_norm + rounding_res) * c, "residual_norm": r_norm,
             "residual_rounding": rounding_res, "orthogonality": eta,
-            # model (Higham & Mary 2019): each entry of fl(UᵀU) is off by ~√N·ε, the matrix of
-            # such independent errors by ~2√N times that in 2-norm
-            "orthogonality_model": gram_dev + 2 * n * EPS,
             "rounding": float(math.sqrt(n) * EPS * scale)}
 
 
@@ -247,19 +260,19 @@ def dominant_blocks(info, rows, cols=None):
         return None, None
     rows = np.asarray(rows)
     cols = rows if cols is None else np.asarray(cols)
-    ux, hx, up, hp, x_shift, p_shift, eta, x_norm, p_norm, x, p = info["dominant"]
+    ux, hx, up, hp, x_shift, p_shift, delta, x_norm, p_norm, x, p = info["dominant"]
     identity = (rows[:, None] == cols[None, :]).astype(float)  # I[rows, cols]
     hx_block = (ux[rows] * hx) @ ux[cols].T + x_shift * identity
     hp_block = (up[rows] * hp) @ up[cols].T + p_shift * identity
-    if eta > 0:
-        # the polar term of :func:`dense_correlators`, with ε balanced on these rows
+    if delta > 0:
+        # the basis term of :func:`dense_correlators`, with ε balanced on these rows
         diag_x, diag_p = np.diag(x)[rows], np.diag(p)[rows]
         for block, own, other_diag, norm in ((hx_block, x, diag_p, x_norm),
                                              (hp_block, p, diag_x, p_norm)):
-            eps_ = min(0.5, eta * math.sqrt(4.0 * norm * max(float(np.mean(other_diag)), 0.0)))
+            eps_ = min(0.5, delta * math.sqrt(4.0 * norm * max(float(np.mean(other_diag)), 0.0)))
             if eps_ > 0:
                 block += (eps_ * own[np.ix_(rows, cols)]
-                          + (1 + 1 / eps_) * eta * eta * norm * identity) / (1 - eps_)
+                          + (1 + 1 / eps_) * delta * delta * norm * identity) / (1 - eps_)
     return hx_block, hp_block
 
 
