@@ -208,8 +208,9 @@ def backward_error(res, u, res_round, scale, *, orthogonality=None):
     ‖R‖₂ is bounded rigorously from the computed residual R̂: the smallest of ‖R̂‖_F,
     √(‖R̂‖₁‖R̂‖∞), ‖R̂ᵀR̂‖_F^{1/2} and ‖(R̂ᵀR̂)²‖_F^{1/4} (λ_max(RᵀR)^k ≤ ‖(RᵀR)^k‖_F; the rounding
     of forming R̂ᵀR̂ is at most γ_N·‖R̂‖_F² in Frobenius norm, by Cauchy–Schwarz on each entry, and
-    that of squaring it γ_N·‖R̂ᵀR̂‖_F²), plus the residual's own rounding.  η (``orthogonality``) is a proven bound: by default from the error-free Gram
-    matrix of :func:`~arealaw.correlators._polar.exact_gram_deviation`; only c(η) ≈ 1 needs it.
+    that of squaring it γ_N·‖R̂ᵀR̂‖_F²), plus the residual's own rounding.  η
+    (``orthogonality``) is a proven bound: by default from the error-free Gram matrix of
+    :func:`~arealaw.correlators._polar.exact_gram_deviation`; only c(η) ≈ 1 needs it.
 
     Models (not worst-case proofs; Higham & Mary 2019, SIAM J. Sci. Comput. 41(5), A2815, show
     that independent roundings grow like √N·ε with high probability): the residual's rounding
