@@ -134,8 +134,10 @@ def test_gram_deviation_and_polar_correction_are_proven(scale):
     true_psi, q = _mp_gram_and_polar(u)
     with mp.workdps(50):
         assert _mp_norm2(mp.matrix(psi.tolist()) - true_psi) <= err + 1e-40
-    u2, eta, delta = polar_corrected(u)
+    u2, eta, delta, column = polar_corrected(u)
     assert eta >= _mp_norm2(true_psi)
+    with mp.workdps(50):
+        assert column >= max(abs(true_psi[i, i]) for i in range(n))
     with mp.workdps(50):
         dev = _mp_norm2(mp.matrix(u2.tolist()) - q)
     assert dev <= delta

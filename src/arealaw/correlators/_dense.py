@@ -87,7 +87,7 @@ def dense_correlators(network, *, temperature=0.0):
     # backward-error lemma): X̂ = ½U'DU'ᵀ then differs from ½QDQᵀ by a δ-sized term (below),
     # where ½UDUᵀ differed by ‖UᵀU − I‖·‖D‖, hundreds of ε times ‖X‖ (seen: 7.9e-14 on a 6-site
     # network; 2.4e-13 on a 2000-site chain, where ‖X‖ = 318; δ there is 9e-15)
-    basis, eta, delta = polar_corrected(u)
+    basis, eta, delta, column = polar_corrected(u)
     if not delta < 0.5:
         raise ValueError(f"the eigenvectors of M^-1/2 V M^-1/2 lost orthogonality (‖UᵀU − I‖ up to "
                          f"{eta:.3g}); the dense method cannot certify this network")
@@ -104,7 +104,7 @@ def dense_correlators(network, *, temperature=0.0):
     # ω/c and ω·c are ω itself at T = 0 (c = 1.0 exactly): the ground state bit for bit
     x = 0.5 * (basis / (omega / coth)) @ basis.T
     p = 0.5 * (basis * (omega * coth)) @ basis.T
-    dlam = resid + np.sqrt(n) * EPS * scale * (1 + 2 * delta / EPS)
+    dlam = resid + np.sqrt(n) * EPS * scale * (1 + column / EPS)
     if np.any(dlam >= lam / 2):
         raise ValueError(f"potential V is too ill-conditioned for the dense method (condition "
                          f"number {scale / lam[0]:.3g}); increase the mass")

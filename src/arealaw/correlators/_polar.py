@@ -18,12 +18,26 @@ slice products are formed; the two smallest ones and the part of U below the sli
 """
 
 import math
+from typing import NamedTuple
 
 import numpy as np
 
 from .._numerics import EPS
 
-__all__ = ["exact_gram_deviation", "polar_corrected"]
+__all__ = ["PolarCorrection", "exact_gram_deviation", "polar_corrected"]
+
+
+class PolarCorrection(NamedTuple):
+    """What :func:`polar_corrected` returns: the new basis and three proven bounds."""
+
+    #: U' = U (I − ½Ψ)
+    basis: np.ndarray
+    #: η ≥ ‖UᵀU − I‖₂
+    orthogonality: float
+    #: δ ≥ ‖U' − Q‖₂, Q the orthogonal polar factor of U
+    deviation: float
+    #: ≥ max_i |‖u_i‖² − 1| (the columns of U itself)
+    column_deviation: float
 
 
 def _abs_norm(a):
@@ -115,7 +129,8 @@ def exact_gram_deviation(u):
 
 
 def polar_corrected(u):
-    """U' = U (I − ½Ψ) with proven bounds: η ≥ ‖UᵀU − I‖₂ and δ ≥ ‖U' − Q‖₂.
+    """U' = U (I − ½Ψ) with proven bounds: η ≥ ‖UᵀU − I‖₂ and δ ≥ ‖U' − Q‖₂ (a
+    :class:`PolarCorrection`).
 
     Q = U (UᵀU)^{-1/2} is the orthogonal polar factor of U (the basis the backward-error lemma
     of :func:`~arealaw.correlators._dense.backward_error` is stated in).  With Ψ̂ the computed
@@ -126,8 +141,8 @@ def polar_corrected(u):
 
     Returns
     -------
-    u_new : ndarray
-    eta, delta : float
+    PolarCorrection
+        ``basis`` U', ``orthogonality`` η, ``deviation`` δ and ``column_deviation``.
 
     Examples
     --------
@@ -135,7 +150,7 @@ def polar_corrected(u):
     >>> from arealaw.correlators._polar import polar_corrected
     >>> q = np.linalg.qr(np.random.default_rng(1).standard_normal((6, 6)))[0]
     >>> u = q + 1e-9 * np.random.default_rng(2).standard_normal((6, 6))
-    >>> u2, eta, delta = polar_corrected(u)
+    >>> u2, eta, delta, _ = polar_corrected(u)
     >>> bool(eta > 1e-9 and delta < 1e-14)
     True
     >>> bool(np.abs(u2.T @ u2 - np.eye(6)).max() < 1e-14)
@@ -144,8 +159,9 @@ def polar_corrected(u):
     n = u.shape[0]
     psi, e_g = exact_gram_deviation(u)
     eta = float(np.linalg.norm(psi)) * (1 + 2 * n * EPS) + e_g
+    column = float(np.abs(np.diag(psi)).max()) + e_g if n else 0.0
     if eta >= 0.5:
-        return u, eta, math.inf
+        return PolarCorrection(u, eta, math.inf, column)
     gamma = n * EPS / (1 - n * EPS)
     psi *= 0.5
     u_new = u - u @ psi
@@ -153,4 +169,4 @@ def polar_corrected(u):
     series = 0.375 * eta * eta / (1 - eta) ** 2.5
     delta = (math.sqrt(1 + eta) * (series + 0.5 * e_g) + product
              + EPS * _abs_norm(u_new) / (1 - EPS))
-    return u_new, eta, delta
+    return PolarCorrection(u_new, eta, delta, column)
