@@ -24,8 +24,8 @@ import arealaw as al
 EPS = np.finfo(float).eps
 ORDERS = (1.0, 2.0, 0.5, math.inf)
 TIGHT = 1e3
-#: A general (non-diagonal) M adds a backward-error model for M^{∓1/2} (4√n·ε·cond M): it is
-#: rigorous but up to ~10⁴ above the true error on ill-conditioned draws
+#: A general (non-diagonal) M adds the errors of the computed M^{∓1/2} (their backward error and
+#: basis terms): rigorous but up to ~10⁴ above the true error on ill-conditioned draws
 TIGHT_GENERAL_M = 1e4
 
 

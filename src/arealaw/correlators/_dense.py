@@ -61,21 +61,37 @@ def dense_correlators(network, *, temperature=0.0):
                    "use method='auto' (spectral for uniform boxes, sparse otherwise)")
     v = network.potential.toarray()
     m_beta = 0.0
+    relative = 0.0              # X̂, P̂ are exact for M' = Â^{-2} ≠ M: a relative Loewner term
+    congruence_x = 0.0          # relative congruences of X̂, P̂ (P̂ = (B̂Â) P(V, M') (ÂB̂))
+    congruence_p = 0.0
+    root_ratio = 1.0            # ‖M^{-1/2}‖·‖M^{1/2}‖ (bounded)
     if network.kinetic is None:
         m_half = m_inv_half = None
         k = v
     else:
-        mu, w = scipy.linalg.eigh(network.kinetic.toarray())
-        # M^{∓1/2} carry relative errors ~ε·cond(M): the potential they transform moves by that
-        m_beta = 4 * math.sqrt(n) * EPS * float(mu[-1] / max(mu[0], 1e-300))
-        if mu[0] <= 0:
-            raise ValueError(f"kinetic M is not positive definite (smallest eigenvalue {mu[0]:.3g})")
-        m_half = (w * np.sqrt(mu)) @ w.T
-        m_inv_half = (w / np.sqrt(mu)) @ w.T
+        m_half, m_inv_half, gamma_x, gamma_p, root_ratio = _kinetic_roots(
+            network.kinetic.toarray())
         k = m_inv_half @ v @ m_inv_half
         k = 0.5 * (k + k.T)
+        # X = ½ M^{-1} # V^{-1} and P = ½ M # V (matrix geometric means, monotone in each
+        # argument, homogeneous): Â symmetric makes X̂ = Â X_K(ÂVÂ) Â the exact X of M' = Â^{-2},
+        # and (1 − c)M ⪯ M' ⪯ (1 + c)M with c = (1 − γ_X)^{-2} − 1 moves X and P by at most
+        # ((1 − c)^{-1/2} − 1) times themselves
+        if temperature == 0:
+            c = (1 - gamma_x) ** -2 - 1
+            rho = (1 - c) ** -0.5 - 1
+            relative = rho / (1 - rho)
+            # B̂Â − I = (B̂ − B)Â + B(Â − A)
+            congruence_p = gamma_p * (1 + gamma_x) + gamma_x
+        else:
+            # no geometric-mean form at T > 0: Â, B̂ act as congruences (γ_X, γ_P) on X and P,
+            # and ÂVÂ − AVA, at most (2γ_X + γ_X²)/(1 − γ_X)²·‖K̂‖, joins the backward error
+            congruence_x, congruence_p = gamma_x, gamma_p
+            m_beta = (2 * gamma_x + gamma_x ** 2) / (1 - gamma_x) ** 2
     lam, u = scipy.linalg.eigh(k)
     scale = max(abs(lam[0]), abs(lam[-1]))
+    if m_half is not None:
+        m_beta = (m_beta + 2 * math.sqrt(n) * EPS) * scale   # model: rounding of forming Â V Â
     if lam[0] <= 64 * n * EPS * scale:
         raise ValueError(
             f"potential V is not positive definite (smallest eigenvalue of M^-1/2 V M^-1/2 is "
@@ -88,6 +104,10 @@ def dense_correlators(network, *, temperature=0.0):
     # where ½UDUᵀ differed by ‖UᵀU − I‖·‖D‖, hundreds of ε times ‖X‖ (seen: 7.9e-14 on a 6-site
     # network; 2.4e-13 on a 2000-site chain, where ‖X‖ = 318; δ there is 9e-15)
     basis, eta, delta, column = polar_corrected(u)
+    # in the frame of X = Â X_K Â: Â U' = (I + ÂΔQᵀÂ^{-1}) Â Q, a relative deviation of at most
+    # δ‖Â‖‖Â^{-1}‖; the congruences above compose with it
+    delta_x = (1 + congruence_x) * (1 + delta * root_ratio) - 1
+    delta_p = (1 + congruence_p) * (1 + delta * root_ratio) - 1
     if not delta < 0.5:
         raise ValueError(f"the eigenvectors of M^-1/2 V M^-1/2 lost orthogonality (‖UᵀU − I‖ up to "
                          f"{eta:.3g}); the dense method cannot certify this network")
@@ -130,8 +150,8 @@ def dense_correlators(network, *, temperature=0.0):
     # tr(X̂P) ≈ n/4 and tr P ≈ n·mean P_ii); any ε in (0, 1) is rigorous.
     x_norm = 0.5 * float(np.max(coth / omega))
     p_norm = 0.5 * float(np.max(omega * coth))
-    x_err += (2 * delta + delta * delta) * x_norm
-    p_err += (2 * delta + delta * delta) * p_norm
+    x_err += (2 * delta_x + delta_x * delta_x + relative) * x_norm
+    p_err += (2 * delta_p + delta_p * delta_p + relative) * p_norm
     if beta < lam[0] / 2:
         # At T > 0, f(t) = coth(√t/2T)/√t = 2T Σ_n 1/(t + (2πnT)²) is operator monotone
         # decreasing and g(t) = √t coth(√t/2T) = 2T Σ_n t/(t + (2πnT)²) increasing (Matsubara
@@ -143,9 +163,9 @@ def dense_correlators(network, *, temperature=0.0):
         hx = 0.5 * (coth_factor(w_lo, temperature) / w_lo - coth / omega)
         hp = 0.5 * (omega * coth - g_lo)
         ux = up = basis
-        # H itself is written with U': U' h U'ᵀ − Q h Qᵀ ≤ (2δ + δ²)‖h‖ in norm
-        x_shift = (2 * delta + delta * delta) * float(np.max(hx))
-        p_shift = (2 * delta + delta * delta) * float(np.max(hp))
+        # H itself is written with U' (and Â): U' h U'ᵀ − Q h Qᵀ ≤ (2δ + δ²)‖h‖ in norm
+        x_shift = (2 * delta_x + delta_x * delta_x) * float(np.max(hx))
+        p_shift = (2 * delta_p + delta_p * delta_p) * float(np.max(hp))
         mi2 = mh2 = 1.0
         if m_half is not None:
             # congruence keeps the Loewner order: H_X = M^{-1/2} (H + cI) M^{-1/2}, and
@@ -153,8 +173,8 @@ def dense_correlators(network, *, temperature=0.0):
             ux, up = m_inv_half @ basis, m_half @ basis
             mi2 = float(np.linalg.norm(m_inv_half, 2)) ** 2
             mh2 = float(np.linalg.norm(m_half, 2)) ** 2
-        dominant = [ux, hx, up, hp, x_shift * mi2, p_shift * mh2, delta, x_norm * mi2,
-                    p_norm * mh2]
+        dominant = [ux, hx, up, hp, x_shift * mi2, p_shift * mh2, delta_x, delta_p,
+                    x_norm * mi2, p_norm * mh2, relative]
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -169,6 +189,44 @@ def dense_correlators(network, *, temperature=0.0):
                   "backward_error": beta, "backward_error_budget": dict(budget, kinetic=m_beta,
                                                                basis_deviation=delta),
                   "dominant": dominant}
+
+
+def _kinetic_roots(m):
+    """M^{1/2}, M^{-1/2} from a polar-corrected eigendecomposition, with proven-or-modelled bounds
+    γ_P, γ_X on their relative deviations (B̂ = (I + Γ')M^{1/2}, Â = (I + Γ)M^{-1/2}) and on
+    ‖M^{-1/2}‖‖M^{1/2}‖.
+
+    The computed pairs are exact for M + E_M, ‖E_M‖ ≤ β_M (:func:`backward_error`, residual
+    rounding as the dense model 2√N·ε·‖M‖ per column), in the polar factor Q_W of W; the roots
+    of M + E_M differ from those of M by at most β_M/(√a√b(√a + √b)) (t^{-1/2}) and
+    β_M/(√a + √b) (t^{1/2}), a = μ_min − β_M, b = μ_min (integral representations of both
+    roots); forming them with W' instead of Q_W adds (2δ + δ²)‖root‖ and the products' rounding
+    the model √N·ε·‖root‖.
+    """
+    n = m.shape[0]
+    mu, w = scipy.linalg.eigh(m)
+    if mu[0] <= 0:
+        raise ValueError(f"kinetic M is not positive definite (smallest eigenvalue {mu[0]:.3g})")
+    basis, eta, delta, _ = polar_corrected(w)
+    res = m @ w - w * mu
+    budget = backward_error(res, w, np.full(n, 2 * math.sqrt(n) * EPS * float(mu[-1])),
+                            float(mu[-1]), orthogonality=eta)
+    beta = budget["residual"] + budget["rounding"]
+    if not (delta < 0.5 and beta < mu[0] / 2):
+        raise ValueError(f"kinetic M is too ill-conditioned for the dense method (condition "
+                         f"number {mu[-1] / mu[0]:.3g})")
+    a, b = mu[0] - beta, mu[0]
+    form = 2 * delta + delta * delta + math.sqrt(n) * EPS
+    dev_inv = beta / (math.sqrt(a * b) * (math.sqrt(a) + math.sqrt(b))) + form / math.sqrt(a)
+    dev_half = beta / (math.sqrt(a) + math.sqrt(b)) + form * math.sqrt(mu[-1] + beta)
+    gamma_x = dev_inv * math.sqrt(mu[-1] + beta)       # ‖Â − A‖·‖A^{-1}‖
+    gamma_p = dev_half / math.sqrt(a)                  # ‖B̂ − B‖·‖B^{-1}‖
+    m_half = (basis * np.sqrt(mu)) @ basis.T
+    m_inv_half = (basis / np.sqrt(mu)) @ basis.T
+    # symmetric Â makes X̂ the exact X of M' = Â^{-2} (the symmetrisation is within the model)
+    m_half = 0.5 * (m_half + m_half.T)
+    m_inv_half = 0.5 * (m_inv_half + m_inv_half.T)
+    return m_half, m_inv_half, gamma_x, gamma_p, math.sqrt((mu[-1] + beta) / a)
 
 
 def _residual(network, k, u, lam):
@@ -261,15 +319,20 @@ def dominant_blocks(info, rows, cols=None):
         return None, None
     rows = np.asarray(rows)
     cols = rows if cols is None else np.asarray(cols)
-    ux, hx, up, hp, x_shift, p_shift, delta, x_norm, p_norm, x, p = info["dominant"]
+    (ux, hx, up, hp, x_shift, p_shift, delta_x, delta_p, x_norm, p_norm, relative,
+     x, p) = info["dominant"]
     identity = (rows[:, None] == cols[None, :]).astype(float)  # I[rows, cols]
     hx_block = (ux[rows] * hx) @ ux[cols].T + x_shift * identity
     hp_block = (up[rows] * hp) @ up[cols].T + p_shift * identity
-    if delta > 0:
-        # the basis term of :func:`dense_correlators`, with ε balanced on these rows
-        diag_x, diag_p = np.diag(x)[rows], np.diag(p)[rows]
-        for block, own, other_diag, norm in ((hx_block, x, diag_p, x_norm),
-                                             (hp_block, p, diag_x, p_norm)):
+    if relative > 0:
+        # the kinetic matrix's relative term, ρ/(1 − ρ) times X̂ and P̂
+        hx_block += relative * x[np.ix_(rows, cols)]
+        hp_block += relative * p[np.ix_(rows, cols)]
+    # the basis term of :func:`dense_correlators`, with ε balanced on these rows
+    diag_x, diag_p = np.diag(x)[rows], np.diag(p)[rows]
+    for block, own, other_diag, norm, delta in ((hx_block, x, diag_p, x_norm, delta_x),
+                                                (hp_block, p, diag_x, p_norm, delta_p)):
+        if delta > 0:
             eps_ = min(0.5, delta * math.sqrt(4.0 * norm * max(float(np.mean(other_diag)), 0.0)))
             if eps_ > 0:
                 block += (eps_ * own[np.ix_(rows, cols)]
