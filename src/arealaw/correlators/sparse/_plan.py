@@ -80,7 +80,7 @@ def block_plan(n, n_rhs, nnz, *, block_size=32, n_jobs=1, may_reduce=True):
     V itself when M = I), and with worker processes A_BB once more in shared memory (joblib maps
     it into every worker); while they are sliced, before any block exists, one transient copy
     more.  The blocks: ``BYTES_PER_ENTRY`` per site and column per worker.  Measured: 2.0 GiB
-    peak against 3.1 GiB planned on 100³, 6.1 GiB against 10.4 GiB on 215³ (README, "Memory of
+    peak against 3.1 GiB planned on 100³, 6.1 GiB against 10.4 GiB on 215³ (README, "Memory and time of
     the sparse path").
 
     Examples
