@@ -19,6 +19,7 @@ a rigorous one-sided bound.  The moments, nodes and ‖π_m‖² are computed in
 """
 
 import functools
+import inspect
 import math
 from dataclasses import dataclass
 
@@ -77,6 +78,17 @@ def _norm2(t, n_kept, m):
         return float(mpmath.det(hank[1]) / mpmath.det(hank[0]) * scale ** (2 * m))
 
 
+def _polyroots(ascending, **options):
+    """Roots of Σ a_k x^k (coefficients in ascending order) with any mpmath version.
+
+    mpmath ≥ 1.4 takes ``asc=True`` and deprecates its descending default (which a later
+    version may flip); older versions know only the descending order.
+    """
+    if "asc" in inspect.signature(mpmath.polyroots).parameters:
+        return mpmath.polyroots(ascending, asc=True, **options)
+    return mpmath.polyroots(ascending[::-1], **options)
+
+
 def _tail_gauss(t, n_kept, m):
     """Nodes u_i, weights ρ_i and ‖π_m‖² of the m-point Gauss rule of the tail measure ρ."""
     with mpmath.workdps(_DIGITS):
@@ -91,8 +103,8 @@ def _tail_gauss(t, n_kept, m):
         norm2 = mpmath.det(hank[1]) / mpmath.det(hank[0])   # ‖π_m‖² in v (scale^{2m} apart)
         # π_m(v) = v^m + Σ c_j v^j with Σ_j μ_{i+j} c_j = −μ_{i+m}, i < m
         c = mpmath.lu_solve(hank[0], mpmath.matrix([-mom[i + m] for i in range(m)]))
-        roots = mpmath.polyroots([1] + [c[j] for j in reversed(range(m))], maxsteps=200,
-                                 extraprec=2 * _DIGITS)
+        roots = _polyroots([c[j] for j in range(m)] + [1], maxsteps=200,
+                           extraprec=2 * _DIGITS)
         roots = sorted(mpmath.re(r) for r in roots)
         vand = mpmath.matrix([[r ** k for r in roots] for k in range(m)])
         rho = mpmath.lu_solve(vand, mpmath.matrix(mom[:m]))
