@@ -2,6 +2,7 @@
 
 import math
 import weakref
+from typing import NamedTuple
 
 import numpy as np
 import scipy.linalg
@@ -15,6 +16,24 @@ from ._polar import exact_gram_deviation, polar_corrected
 from ._temperature import check_temperature, coth_factor
 
 __all__ = ["DenseBackend", "backward_error", "dense_correlators", "dominant_blocks"]
+
+
+class _DominantForm(NamedTuple):
+    """What :func:`dominant_blocks` needs to form Loewner error blocks of any rows and columns."""
+
+    ux: np.ndarray          # X̂'s error H_X = ux·diag(hx)·uxᵀ (+ the terms below)
+    hx: np.ndarray
+    up: np.ndarray          # P̂'s error H_P = up·diag(hp)·upᵀ
+    hp: np.ndarray
+    x_shift: float          # H written with U' instead of Q: a multiple of I
+    p_shift: float
+    delta_x: float          # relative basis deviations (polar correction, kinetic roots)
+    delta_p: float
+    x_norm: float           # ‖X̂‖, ‖P̂‖ bounds
+    p_norm: float
+    relative: float         # the kinetic roots' relative Loewner term, times X̂ and P̂
+    x: np.ndarray           # X̂, P̂ themselves
+    p: np.ndarray
 
 
 def dense_memory_bytes(n):
@@ -173,8 +192,9 @@ def dense_correlators(network, *, temperature=0.0):
             ux, up = m_inv_half @ basis, m_half @ basis
             mi2 = float(np.linalg.norm(m_inv_half, 2)) ** 2
             mh2 = float(np.linalg.norm(m_half, 2)) ** 2
-        dominant = [ux, hx, up, hp, x_shift * mi2, p_shift * mh2, delta_x, delta_p,
-                    x_norm * mi2, p_norm * mh2, relative]
+        dominant = dict(ux=ux, hx=hx, up=up, hp=hp, x_shift=x_shift * mi2,
+                        p_shift=p_shift * mh2, delta_x=delta_x, delta_p=delta_p,
+                        x_norm=x_norm * mi2, p_norm=p_norm * mh2, relative=relative)
     if m_half is not None:
         x = m_inv_half @ x @ m_inv_half
         p = m_half @ p @ m_half
@@ -183,7 +203,7 @@ def dense_correlators(network, *, temperature=0.0):
     x = 0.5 * (x + x.T)
     p = 0.5 * (p + p.T)
     if dominant is not None:
-        dominant = tuple(dominant) + (x, p)
+        dominant = _DominantForm(**dominant, x=x, p=p)
     return x, p, {"omega_min": float(omega[0]), "omega_max": float(omega[-1]),
                   "x_error": float(x_err), "p_error": float(p_err), "temperature": temperature,
                   "backward_error": beta, "backward_error_budget": dict(budget, kinetic=m_beta,
@@ -319,19 +339,19 @@ def dominant_blocks(info, rows, cols=None):
         return None, None
     rows = np.asarray(rows)
     cols = rows if cols is None else np.asarray(cols)
-    (ux, hx, up, hp, x_shift, p_shift, delta_x, delta_p, x_norm, p_norm, relative,
-     x, p) = info["dominant"]
+    d = info["dominant"]
+    x, p = d.x, d.p
     identity = (rows[:, None] == cols[None, :]).astype(float)  # I[rows, cols]
-    hx_block = (ux[rows] * hx) @ ux[cols].T + x_shift * identity
-    hp_block = (up[rows] * hp) @ up[cols].T + p_shift * identity
-    if relative > 0:
+    hx_block = (d.ux[rows] * d.hx) @ d.ux[cols].T + d.x_shift * identity
+    hp_block = (d.up[rows] * d.hp) @ d.up[cols].T + d.p_shift * identity
+    if d.relative > 0:
         # the kinetic matrix's relative term, ρ/(1 − ρ) times X̂ and P̂
-        hx_block += relative * x[np.ix_(rows, cols)]
-        hp_block += relative * p[np.ix_(rows, cols)]
+        hx_block += d.relative * x[np.ix_(rows, cols)]
+        hp_block += d.relative * p[np.ix_(rows, cols)]
     # the basis term of :func:`dense_correlators`, with ε balanced on these rows
     diag_x, diag_p = np.diag(x)[rows], np.diag(p)[rows]
-    for block, own, other_diag, norm, delta in ((hx_block, x, diag_p, x_norm, delta_x),
-                                                (hp_block, p, diag_x, p_norm, delta_p)):
+    for block, own, other_diag, norm, delta in ((hx_block, x, diag_p, d.x_norm, d.delta_x),
+                                                (hp_block, p, diag_x, d.p_norm, d.delta_p)):
         if delta > 0:
             eps_ = min(0.5, delta * math.sqrt(4.0 * norm * max(float(np.mean(other_diag)), 0.0)))
             if eps_ > 0:
