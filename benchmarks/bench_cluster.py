@@ -15,9 +15,9 @@ are equal).  The 10^6-site case of ``scripts/bench_sparse_1e6.py``: ``... 100 6.
 import sys
 import time
 
-from arealaw import ball, entropy, hypercubic
+from arealaw import entropy
 
-from ._common import one_blas_thread
+from ._common import disordered_ball, one_blas_thread
 
 SIDE = 40
 RADIUS = 5.0
@@ -25,8 +25,7 @@ TOL = 1e-10
 
 
 def disordered_case(side=SIDE, radius=RADIUS):
-    net = hypercubic((side,) * 3, mass=0.3, mass_disorder=0.5, seed=1)
-    return net, ball(net, radius)
+    return disordered_ball(side, radius)
 
 
 def local_cluster(workers):

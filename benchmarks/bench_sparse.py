@@ -13,7 +13,7 @@ import time
 from arealaw import ball, entropy, hypercubic
 from arealaw.correlators import SparseBackend
 
-from ._common import one_blas_thread
+from ._common import disordered_ball, one_blas_thread
 
 SIDE = 40
 RADIUS = 6.2
@@ -21,8 +21,7 @@ TOL = 1e-10
 
 
 def disordered_case(side=SIDE, radius=RADIUS):
-    net = hypercubic((side,) * 3, mass=0.3, mass_disorder=0.5, seed=1)
-    return net, ball(net, radius)
+    return disordered_ball(side, radius)
 
 
 class TimeSparseBall:
