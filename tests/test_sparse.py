@@ -13,7 +13,8 @@ from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy,
 from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_correlators,
                                  get_backend)
 from arealaw.correlators.sparse._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
-from arealaw.correlators.sparse._kernels import (csr_block_product, direction_update,
+from arealaw.correlators.sparse._kernels import (UNREACHED, csr_block_product,
+                                                  direction_update, hop_distance,
                                                   residual_update)
 from arealaw.correlators.sparse._shifted import amg_shifted_cg, multishift_cg
 
@@ -228,19 +229,55 @@ def test_fused_kernels_match_numpy(index_dtype):
     p, r = rng.standard_normal((2, 300, 7))
     alpha, beta = rng.random((2, 7))
     out, pap, rr = np.empty((300, 7)), np.empty(7), np.empty(7)
-    csr_block_product(a.indptr, a.indices, a.data, p, out, pap)
+    every = np.arange(300)
+    csr_block_product(a.indptr, a.indices, a.data, p, out, pap, every)
     assert_allclose(out, a @ p, rtol=1e-13, atol=1e-13)
     assert_allclose(pap, np.einsum("ij,ij->j", p, a @ p), rtol=1e-12)
     r_new = r - alpha * out
-    residual_update(r, out, alpha, rr)
+    residual_update(r, out, alpha, rr, every)
     assert_allclose(r, r_new, rtol=1e-13, atol=1e-13)
     assert_allclose(rr, (r_new ** 2).sum(axis=0), rtol=1e-12)
     p_new = r + beta * p
-    direction_update(p, r, beta)
+    direction_update(p, r, beta, every)
     assert_allclose(p, p_new, rtol=1e-13, atol=1e-13)
     p[5, 2] = np.nan  # a NaN must reach the caller (no finite-math assumption in the kernels)
-    csr_block_product(a.indptr, a.indices, a.data, p, out, pap)
+    csr_block_product(a.indptr, a.indices, a.data, p, out, pap, every)
     assert np.isnan(pap[2]) and np.isfinite(np.delete(pap, 2)).all()
+
+
+def test_hop_distance_matches_breadth_first_search():
+    # Independent route: scipy's unweighted shortest paths from each source, minimised.
+    from scipy.sparse.csgraph import shortest_path
+    net = hypercubic((9, 7), mass=0.4, boundary=("dirichlet", "periodic"))
+    v = net.potential.tocsr()
+    pattern = sp.block_diag([v, sp.identity(5)]).tocsr()  # plus 5 sites nothing reaches
+    sources = np.array([3, 40, 41])
+    hops = hop_distance(pattern.indptr, pattern.indices, sources)
+    paths = shortest_path(abs(pattern), unweighted=True, indices=sources).min(axis=0)
+    reached = np.isfinite(paths)
+    assert np.array_equal(hops[reached], paths[reached].astype(int))
+    assert np.all(hops[~reached] == UNREACHED) and (~reached).sum() == 5
+
+
+def test_light_cone_rows_change_no_number():
+    # multishift_cg works on the rows within k hops of the right-hand sides after k products.
+    # Against the same run with every row active from the start (a third column supported
+    # everywhere, by a 1e-300 floor) and against dense solves.
+    net = hypercubic((30, 30), mass=0.2, mass_disorder=0.5, seed=3)
+    a = net.potential.tocsr()
+    f = np.zeros((a.shape[0], 3))
+    f[[0, 31, 465], [0, 1, 2]] = 1.0
+    keep = np.array([0, 31, 465, 899])
+    shifts = np.array([0.0, 0.5, 4.0])
+    z, resid, iters = multishift_cg(a, f, shifts, keep, rtol=1e-12, maxiter=500)
+    f_full = f.copy()
+    f_full[:, 2] += 1e-300  # a column supported everywhere: every row active from the start
+    z_full, _, _ = multishift_cg(a, f_full, shifts, keep, rtol=1e-12, maxiter=500)
+    assert np.array_equal(z[:, :, :2], z_full[:, :, :2])  # same operations, bit for bit
+    dense = a.toarray()
+    for j, s in enumerate(shifts):
+        exact = np.linalg.solve(dense + s * np.eye(a.shape[0]), f)[keep]
+        assert_allclose(z[j], exact, atol=1e-10)
 
 
 def test_uniform_lattice_agrees_with_spectral_backend():

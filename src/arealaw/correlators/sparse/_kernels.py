@@ -8,12 +8,21 @@ into three passes (product with its inner products; residual update with its nor
 update), each compiled by numba.  They perform the same floating-point operations as the numpy
 recurrence up to the order of summation of the inner products, so the rounding analysis of the
 residuals (recursively updated, bounded a posteriori) is unchanged.
+
+Each kernel works on a list of ``rows`` only: the rows the Krylov vectors can reach so far
+(:func:`hop_distance`).  A right-hand side supported on a set S has, after k products, its
+residual and direction supported within k hops of S (the k-th Krylov space of a sparse matrix);
+every other row of r, p and A p is exactly zero, so skipping it changes no number and no
+rounding, and on a large lattice the early iterations touch a small ball around the region.
 """
 
 import numba
 import numpy as np
 
-__all__ = ["csr_block_product", "direction_update", "residual_update"]
+__all__ = ["csr_block_product", "direction_update", "hop_distance", "residual_update"]
+
+#: Hop distance of a row that no source reaches.
+UNREACHED = np.iinfo(np.int32).max
 
 #: Reassociation and fused multiply-add only (no assumptions on NaN or infinities): the
 #: rounding of each sum stays within the usual n·ε model, and a NaN still reaches the caller.
@@ -21,12 +30,16 @@ _FLAGS = {"reassoc", "contract"}
 
 
 @numba.njit(cache=True, nogil=True, fastmath=_FLAGS)
-def csr_block_product(indptr, indices, data, p, out, pap):  # pragma: no cover (compiled)
-    """out = A p for CSR A and a C-ordered block p (n, b); pap[c] = p[:, c]·out[:, c]."""
-    n, b = p.shape
+def csr_block_product(indptr, indices, data, p, out, pap, rows):  # pragma: no cover (compiled)
+    """out = A p on ``rows`` for CSR A and a C-ordered block p (n, b); pap[c] = p[:, c]·out[:, c].
+
+    p must vanish outside ``rows``, and so must A p (``rows`` holds every row within one hop of
+    p's support); ``out`` is written on ``rows`` only.
+    """
+    b = p.shape[1]
     for c in range(b):
         pap[c] = 0.0
-    for i in range(n):
+    for i in rows:
         row = out[i]
         row[:] = 0.0
         for k in range(indptr[i], indptr[i + 1]):
@@ -40,12 +53,13 @@ def csr_block_product(indptr, indices, data, p, out, pap):  # pragma: no cover (
 
 
 @numba.njit(cache=True, nogil=True, fastmath=_FLAGS)
-def residual_update(r, ap, alpha, rr):  # pragma: no cover (compiled)
-    """r[:, c] -= alpha[c] ap[:, c] in place; rr[c] = ‖r[:, c]‖² of the updated residual."""
-    n, b = r.shape
+def residual_update(r, ap, alpha, rr, rows):  # pragma: no cover (compiled)
+    """r[:, c] -= alpha[c] ap[:, c] on ``rows`` in place; rr[c] = ‖r[:, c]‖² of the result
+    (r vanishes outside ``rows``; ap is read on ``rows`` only)."""
+    b = r.shape[1]
     for c in range(b):
         rr[c] = 0.0
-    for i in range(n):
+    for i in rows:
         for c in range(b):
             v = r[i, c] - alpha[c] * ap[i, c]
             r[i, c] = v
@@ -53,9 +67,36 @@ def residual_update(r, ap, alpha, rr):  # pragma: no cover (compiled)
 
 
 @numba.njit(cache=True, nogil=True, fastmath=_FLAGS)
-def direction_update(p, r, beta):  # pragma: no cover (compiled)
-    """p[:, c] = r[:, c] + beta[c] p[:, c] in place."""
-    n, b = p.shape
-    for i in range(n):
+def direction_update(p, r, beta, rows):  # pragma: no cover (compiled)
+    """p[:, c] = r[:, c] + beta[c] p[:, c] on ``rows`` in place (both vanish elsewhere)."""
+    b = p.shape[1]
+    for i in rows:
         for c in range(b):
             p[i, c] = r[i, c] + beta[c] * p[i, c]
+
+
+@numba.njit(cache=True, nogil=True)
+def hop_distance(indptr, indices, sources):  # pragma: no cover (compiled)
+    """Hops from the nearest of ``sources`` to every row in the graph of the symmetric CSR
+    pattern (breadth-first search); :data:`UNREACHED` where no source reaches."""
+    n = indptr.size - 1
+    dist = np.full(n, UNREACHED, dtype=np.int32)
+    queue = np.empty(n, dtype=np.int64)
+    tail = 0
+    for s in sources:
+        if dist[s] != 0:
+            dist[s] = 0
+            queue[tail] = s
+            tail += 1
+    head = 0
+    while head < tail:
+        i = queue[head]
+        head += 1
+        d = dist[i] + 1
+        for k in range(indptr[i], indptr[i + 1]):
+            j = indices[k]
+            if dist[j] > d:
+                dist[j] = d
+                queue[tail] = j
+                tail += 1
+    return dist

@@ -4,7 +4,10 @@ Two engines:
 
 * :func:`multishift_cg` (B = I): one Krylov sequence serves every shift (the shifted residuals
   are collinear with the seed residual), so the cost is that of CG on the smallest shift,
-  ∝ √κ per column, and the shifted iterates are kept on the requested rows only.
+  ∝ √κ per column, and the shifted iterates are kept on the requested rows only.  Each
+  iteration works on the rows the Krylov vectors have reached (k hops from the right-hand
+  sides' support after k products, :func:`._kernels.hop_distance`): exactly the same numbers,
+  and on a large lattice most rows stay untouched for most of the run.
 * :func:`amg_shifted_cg` (any SPD B): CG per shift and column, preconditioned with pyamg smoothed
   aggregation (one hierarchy per shift); the cost grows like ln κ (number of shifts), which wins
   for ill-conditioned A.
@@ -21,7 +24,7 @@ import scipy.sparse.linalg as spla
 
 from ..._errors import ConvergenceError
 from ..._progress import report
-from ._kernels import csr_block_product, direction_update, residual_update
+from ._kernels import UNREACHED, csr_block_product, direction_update, hop_distance, residual_update
 
 __all__ = ["amg_shifted_cg", "multishift_cg"]
 
@@ -67,6 +70,10 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
     a_seed = (a + seed * sp.identity(n, format="csr")).tocsr() if seed else a.tocsr()
     csr = (a_seed.indptr, a_seed.indices, np.asarray(a_seed.data, dtype=float))
     r = np.array(rhs, dtype=float, order="C")
+    # the light cone: rows within k hops of the right-hand sides' support after k products
+    hops = hop_distance(csr[0], csr[1], np.flatnonzero(np.any(r != 0, axis=1)))
+    reach = int(hops[hops != UNREACHED].max(initial=0))
+    rows = np.flatnonzero(hops == 0)
     p = r.copy()
     ap = np.empty_like(r)
     rr = np.einsum("ij,ij->j", r, r)
@@ -108,7 +115,9 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
             xs, ps, frozen = xs[:, :, keep_cols], ps[:, :, keep_cols], frozen[:, keep_cols]
             target = target[:, keep_cols]
         it += 1
-        csr_block_product(*csr, p, ap, pap)  # fused kernels: the n×b passes dominate the cost
+        if it <= reach:
+            rows = np.flatnonzero(hops <= it)
+        csr_block_product(*csr, p, ap, pap, rows)  # fused kernels: the n×b passes dominate
         if not np.all(pap > 0):
             raise _not_pd("the shifted matrix")
         alpha = rr / pap
@@ -117,11 +126,11 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
         active = ~frozen
         ratio = np.where(active, pi / np.where(active, pi_next, 1.0), 0.0)  # ζ_{k+1}/ζ_k
         xs += (alpha * ratio)[:, None, :] * ps
-        residual_update(r, ap, alpha, rr_new)
+        residual_update(r, ap, alpha, rr_new, rows)
         beta = rr_new / rr
         ps *= (beta * ratio ** 2)[:, None, :]
         ps += np.where(active, 1.0 / np.where(active, pi_next, 1.0), 0.0)[:, None, :] * r[keep]
-        direction_update(p, r, beta)
+        direction_update(p, r, beta, rows)
         pi_prev, pi = pi, np.where(active, pi_next, pi)
         pi_prev = np.where(active, pi_prev, 1.0)
         alpha_prev, beta_prev, rr = alpha, beta, rr_new.copy()

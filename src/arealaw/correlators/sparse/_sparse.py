@@ -138,7 +138,7 @@ class SparseBackend(CorrelatorBackend):
                                          f"Matsubara rule (about {poles:.0f} poles, limit "
                                          f"{_MAX_THERMAL_POLES}); use method='dense' or "
                                          "'spectral'")
-        solves = self._engine_seconds(network, nnz, n_rhs, kappa, tol)
+        solves = self._engine_seconds(network, nnz, n_rhs, kappa, tol, n_rows)
         engine = self.engine if self.engine != "auto" else min(solves, key=solves.get)
         if engine not in solves:  # multishift asked for a non-diagonal M: blocks() refuses
             engine = "amg"
@@ -173,13 +173,14 @@ class SparseBackend(CorrelatorBackend):
         if isinstance(size, str):
             raise UnsupportedMethodError(size)
         nnz, kappa, n_rhs = size
-        return self._engine_seconds(network, nnz, n_rhs, kappa, tol)
+        return self._engine_seconds(network, nnz, n_rhs, kappa, tol, n_rows)
 
-    def _engine_seconds(self, network, nnz, n_rhs, kappa, tol, n_poles=None):
+    def _engine_seconds(self, network, nnz, n_rhs, kappa, tol, n_rows, n_poles=None):
         # the one call of the engines' cost model: assess, engine_estimates and the choice
         return engine_seconds(nnz, n_rhs, kappa, tol, n_sites=network.n_sites,
                               ndim=network.ndim or 3, diagonal_m=has_diagonal_m(network),
-                              n_poles=n_poles, block_size=self.block_size)
+                              n_poles=n_poles, block_size=self.block_size,
+                              region_sites=n_rows)
 
     def _kappa_guess(self, network):
         ref, cached = self._cache
@@ -278,7 +279,7 @@ class SparseBackend(CorrelatorBackend):
         if not prep.diag:
             return "amg"
         n_rhs = problem_size(network, n_rows, lambda _: kappa)[2]
-        est = self._engine_seconds(network, prep.a.nnz, n_rhs, kappa, tol, n_poles)
+        est = self._engine_seconds(network, prep.a.nnz, n_rhs, kappa, tol, n_rows, n_poles)
         return min(est, key=est.get)
 
     def _rtol(self, tol, kappa):
