@@ -147,7 +147,8 @@ def _symmetric(a):
     """(S, e): CSR S symmetric entry for entry, and e ≥ ‖(A + Aᵀ)/2 − S‖₂ (0 when A is exactly
     symmetric; else one rounding of each averaged entry, at most u·(|a_ij| + |a_ji|))."""
     a = sp.csr_matrix(a, dtype=float)
-    a.sort_indices()
+    if not a.has_sorted_indices:
+        a = a.sorted_indices()  # a copy: the caller's matrix (perhaps read-only) is left alone
     if exactly_symmetric(a):
         return a, 0.0
     s = (0.5 * (a + a.T)).tocsr()
