@@ -274,6 +274,10 @@ def test_light_cone_rows_change_no_number():
     f_full[:, 2] += 1e-300  # a column supported everywhere: every row active from the start
     z_full, _, _ = multishift_cg(a, f_full, shifts, keep, rtol=1e-12, maxiter=500)
     assert np.array_equal(z[:, :, :2], z_full[:, :, :2])  # same operations, bit for bit
+    f_used = f.copy()
+    z_in_place, _, _ = multishift_cg(a, f_used, shifts, keep, rtol=1e-12, maxiter=500,
+                                     overwrite_rhs=True)
+    assert np.array_equal(z_in_place, z) and not np.array_equal(f_used, f)
     dense = a.toarray()
     for j, s in enumerate(shifts):
         exact = np.linalg.solve(dense + s * np.eye(a.shape[0]), f)[keep]

@@ -19,7 +19,8 @@ rounding, and on a large lattice the early iterations touch a small ball around 
 import numba
 import numpy as np
 
-__all__ = ["csr_block_product", "direction_update", "hop_distance", "residual_update"]
+__all__ = ["csr_block_product", "direction_update", "hop_distance", "nonzero_rows",
+           "residual_update"]
 
 #: Hop distance of a row that no source reaches.
 UNREACHED = np.iinfo(np.int32).max
@@ -100,3 +101,16 @@ def hop_distance(indptr, indices, sources):  # pragma: no cover (compiled)
                 queue[tail] = j
                 tail += 1
     return dist
+
+
+@numba.njit(cache=True, nogil=True)
+def nonzero_rows(a):  # pragma: no cover (compiled)
+    """Indices of the rows of the 2-D array ``a`` with a nonzero entry (no n×b temporary)."""
+    n, b = a.shape
+    hit = np.zeros(n, dtype=np.bool_)
+    for i in range(n):
+        for c in range(b):
+            if a[i, c] != 0.0:
+                hit[i] = True
+                break
+    return np.flatnonzero(hit)

@@ -24,7 +24,8 @@ import scipy.sparse.linalg as spla
 
 from ..._errors import ConvergenceError
 from ..._progress import report
-from ._kernels import UNREACHED, csr_block_product, direction_update, hop_distance, residual_update
+from ._kernels import (UNREACHED, csr_block_product, direction_update, hop_distance,
+                       nonzero_rows, residual_update)
 
 __all__ = ["amg_shifted_cg", "multishift_cg"]
 
@@ -35,7 +36,7 @@ def _not_pd(what):
                       "mode needs a mass or a Dirichlet wall")
 
 
-def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
+def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter, overwrite_rhs=False):
     """Solve (a + σ_j I) z = f for all shifts σ_j ≥ 0 and columns f of ``rhs`` at once.
 
     Parameters
@@ -48,6 +49,9 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
     rtol : float or ndarray (s,)
         Relative residual ‖f − (a + σ_j) z‖ / ‖f‖ to reach, per shift.
     maxiter : int
+    overwrite_rhs : bool
+        Let the solver use ``rhs`` (C-ordered float64) as its residual storage instead of a
+        copy: one n×b array less to allocate, which matters on 10^7-site lattices.
 
     Returns
     -------
@@ -69,9 +73,10 @@ def multishift_cg(a, rhs, shifts, keep, *, rtol, maxiter):
     cols = np.arange(b)
     a_seed = (a + seed * sp.identity(n, format="csr")).tocsr() if seed else a.tocsr()
     csr = (a_seed.indptr, a_seed.indices, np.asarray(a_seed.data, dtype=float))
-    r = np.array(rhs, dtype=float, order="C")
+    in_place = overwrite_rhs and rhs.dtype == np.float64 and rhs.flags.c_contiguous
+    r = rhs if in_place else np.array(rhs, dtype=float, order="C")
     # the light cone: rows within k hops of the right-hand sides' support after k products
-    hops = hop_distance(csr[0], csr[1], np.flatnonzero(np.any(r != 0, axis=1)))
+    hops = hop_distance(csr[0], csr[1], nonzero_rows(r))
     reach = int(hops[hops != UNREACHED].max(initial=0))
     rows = np.flatnonzero(hops == 0)
     p = r.copy()

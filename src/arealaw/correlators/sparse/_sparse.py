@@ -491,4 +491,5 @@ def _norm2_bound(a):
 
 def _multishift_chunk(a_bb, f_sparse, shifts, keep, rtol, maxiter):
     with threadpool_limits(limits=1):
-        return multishift_cg(a_bb, f_sparse.toarray(), shifts, keep, rtol=rtol, maxiter=maxiter)
+        return multishift_cg(a_bb, f_sparse.toarray(order="C"), shifts, keep, rtol=rtol,
+                             maxiter=maxiter, overwrite_rhs=True)
