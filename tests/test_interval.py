@@ -176,10 +176,7 @@ def _pencils(draw):
     return v, m, mixed
 
 
-@settings(max_examples=30, deadline=None, derandomize=True,
-          suppress_health_check=[HealthCheck.too_slow])
-@given(_pencils())
-def test_lower_end_is_proven_on_random_pencils(pencil):
+def _check_random_pencil(pencil):
     v, m, mixed = pencil
     with pytest.MonkeyPatch.context() as mp:
         mp.setattr(_interval, "DENSE_INTERVAL_LIMIT", 0)  # the large-pencil path, checked by eigh
@@ -188,3 +185,19 @@ def test_lower_end_is_proven_on_random_pencils(pencil):
     assert _proven(lo, lam, v), (lo, lam, info)
     if not mixed and info["method"] != "gershgorin":
         assert lo >= 0.5 * lam
+
+
+_SETTINGS = dict(deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
+
+
+@settings(max_examples=30, **_SETTINGS)
+@given(_pencils())
+def test_lower_end_is_proven_on_random_pencils(pencil):
+    _check_random_pencil(pencil)
+
+
+@pytest.mark.slow
+@settings(max_examples=300, **_SETTINGS)
+@given(_pencils())
+def test_lower_end_is_proven_on_many_random_pencils(pencil):
+    _check_random_pencil(pencil)
