@@ -253,7 +253,11 @@ class SparseBackend(CorrelatorBackend):
         else:
             # P needs (V + σM)^{-1} on the M-neighbourhood of the sites (see _assemble_general).
             core = np.union1d(union, prep.m[union].indices)
-        y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol)
+        try:  # where the sites are: columns near each other share a block (see _solve)
+            core_coords = network.coords(core)
+        except ValueError:
+            core_coords = None
+        y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol, core_coords)
         if prep.diag:
             x, p, x_err, p_err, hx, hp = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
         else:
@@ -295,7 +299,7 @@ class SparseBackend(CorrelatorBackend):
         return int(20 + 2 * math.sqrt(kappa) * math.log(2 / rtol))
 
     # -- the Schur complement on the core ------------------------------------------------------
-    def _schur(self, prep, core, rule, engine, tol):
+    def _schur(self, prep, core, rule, engine, tol, core_coords=None):
         """Σ_j ½ w_j Y_j and Σ_j ½ w_j σ_j Y_j, Y_j = [(V + σ_j M)^{-1}]_CC, with error bounds."""
         a = prep.a
         m = None if prep.diag else prep.m
@@ -336,8 +340,9 @@ class SparseBackend(CorrelatorBackend):
                 solve_shifts = shifts - seed
             m_bb = None if m is None else m[rest][:, rest].tocsr()
             m_bj = None if m is None else m[rest][:, core[inner]].tocsc()
+            points = None if core_coords is None else core_coords[inner]
             z, resid, iters = self._solve(engine, a_bb, m_bb, a_bj, m_bj, solve_shifts,
-                                          outer_local, rtol, maxiter)
+                                          outer_local, rtol, maxiter, points)
             info["iterations"] = int(iters)
             a_jr = a[core[inner]][:, outer].toarray()
             m_jr = None if m is None else m[core[inner]][:, outer].toarray()
@@ -412,11 +417,14 @@ class SparseBackend(CorrelatorBackend):
         return block_plan(n, n_rhs, nnz, block_size=self.block_size, n_jobs=jobs,
                           may_reduce=not chosen)
 
-    def _solve(self, engine, a_bb, m_bb, a_bj, m_bj, shifts, keep, rtol, maxiter):
+    def _solve(self, engine, a_bb, m_bb, a_bj, m_bj, shifts, keep, rtol, maxiter, points=None):
         n_rhs = a_bj.shape[1]
         if engine == "multishift":
             bs, n_jobs, nbytes = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
-            chunks = [slice(i, min(i + bs, n_rhs)) for i in range(0, n_rhs, bs)]
+            # a block's columns sit on a compact patch of the boundary, not a ring of it: its
+            # light cone (the rows its CG vectors reach, _kernels) then stays small for longer
+            order = np.arange(n_rhs) if points is None else _bisection_order(points)
+            chunks = [order[i:i + bs] for i in range(0, n_rhs, bs)]
             n_jobs = min(n_jobs, len(chunks))
             par = current_parallelism()
             if par is None or par.scheduler is None:
@@ -429,8 +437,9 @@ class SparseBackend(CorrelatorBackend):
             out = map_units(_multishift_chunk,
                             [(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter) for sl in chunks],
                             auto=n_jobs, stage="shifted solves", shared=(a_bb,))
-            z = np.concatenate([o[0] for o in out], axis=2)
-            resid = np.concatenate([o[1] for o in out], axis=1)
+            back = np.argsort(order)  # the columns in their given order again
+            z = np.concatenate([o[0] for o in out], axis=2)[:, :, back]
+            resid = np.concatenate([o[1] for o in out], axis=1)[:, back]
             return z, resid, max(o[2] for o in out)
 
         def rhs(sigma):
@@ -479,6 +488,23 @@ class SparseBackend(CorrelatorBackend):
         hp = m_uc @ err["h_sig"] @ m_uc.T + rel * p + (
             8 * math.sqrt(core.size) * EPS * err["w_sum"] * max(1.0, m_norm ** 2)) * np.eye(ui.size)
         return x, p, x_err, p_err, hx, hp
+
+
+def _bisection_order(points):
+    """An order of ``points`` (m, d) in which every run of consecutive points is compact:
+    recursive bisection at the median of the widest coordinate."""
+    points = np.asarray(points, dtype=float)
+
+    def split(ix):
+        if ix.size <= 1:
+            return ix
+        pts = points[ix]
+        axis = int(np.argmax(np.ptp(pts, axis=0)))
+        ix = ix[np.argsort(pts[:, axis], kind="stable")]
+        half = ix.size // 2
+        return np.concatenate([split(ix[:half]), split(ix[half:])])
+
+    return split(np.arange(points.shape[0]))
 
 
 def _norm2_bound(a):
