@@ -406,12 +406,12 @@ def test_block_plan_counts_the_matrices_and_refuses_up_front(monkeypatch):
 def test_blocks_of_columns_are_compact_patches():
     # The multishift blocks take boundary columns in bisection order: every block is a compact
     # patch, and the result does not depend on the order (same S as one block of every column).
-    from arealaw.correlators.sparse._sparse import _bisection_order
+    from arealaw.correlators.sparse._plan import column_blocks
     t = np.linspace(0, 2 * np.pi, 64, endpoint=False)
     ring = np.stack([np.cos(t), np.sin(t)], axis=1)
-    order = _bisection_order(ring)
-    assert sorted(order.tolist()) == list(range(64))
-    for block in order.reshape(8, 8):  # each run of 8 is 8 neighbours along the ring
+    blocks = column_blocks(64, 8, ring)
+    assert sorted(np.concatenate(blocks).tolist()) == list(range(64))
+    for block in blocks:  # each run of 8 is 8 neighbours along the ring
         members = set(block.tolist())
         assert any(all((start + k) % 64 in members for k in range(8)) for start in members)
     net = hypercubic((14, 14, 14), mass=0.3, mass_disorder=0.5, seed=4)

@@ -47,7 +47,8 @@ from .._temperature import check_temperature
 from ._contour import inverse_sqrt_rule
 from ._interval import exactly_symmetric, gershgorin, is_diagonal, pencil_interval
 from ._matsubara import matsubara_poles_estimate, matsubara_rule
-from ._plan import block_plan, engine_seconds, has_diagonal_m, problem_size
+from ._plan import (block_plan, column_blocks, engine_seconds, has_diagonal_m, problem_size,
+                    site_coords)
 from ._shifted import amg_shifted_cg, multishift_cg
 
 __all__ = ["IllConditionedWarning", "SparseBackend"]
@@ -253,10 +254,7 @@ class SparseBackend(CorrelatorBackend):
         else:
             # P needs (V + σM)^{-1} on the M-neighbourhood of the sites (see _assemble_general).
             core = np.union1d(union, prep.m[union].indices)
-        try:  # where the sites are: columns near each other share a block (see _solve)
-            core_coords = network.coords(core)
-        except ValueError:
-            core_coords = None
+        core_coords = site_coords(network, core)  # columns near each other share a block
         y_cc, y_sig, err, diag_info = self._schur(prep, core, rule, engine, tol, core_coords)
         if prep.diag:
             x, p, x_err, p_err, hx, hp = self._assemble_diag(prep, union, y_cc, y_sig, err, rule)
@@ -421,10 +419,7 @@ class SparseBackend(CorrelatorBackend):
         n_rhs = a_bj.shape[1]
         if engine == "multishift":
             bs, n_jobs, nbytes = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
-            # a block's columns sit on a compact patch of the boundary, not a ring of it: its
-            # light cone (the rows its CG vectors reach, _kernels) then stays small for longer
-            order = np.arange(n_rhs) if points is None else _bisection_order(points)
-            chunks = [order[i:i + bs] for i in range(0, n_rhs, bs)]
+            chunks = column_blocks(n_rhs, bs, points)
             n_jobs = min(n_jobs, len(chunks))
             par = current_parallelism()
             if par is None or par.scheduler is None:
@@ -437,7 +432,7 @@ class SparseBackend(CorrelatorBackend):
             out = map_units(_multishift_chunk,
                             [(a_bb, a_bj[:, sl], shifts, keep, rtol, maxiter) for sl in chunks],
                             auto=n_jobs, stage="shifted solves", shared=(a_bb,))
-            back = np.argsort(order)  # the columns in their given order again
+            back = np.argsort(np.concatenate(chunks))  # the columns in their given order again
             z = np.concatenate([o[0] for o in out], axis=2)[:, :, back]
             resid = np.concatenate([o[1] for o in out], axis=1)[:, back]
             return z, resid, max(o[2] for o in out)
@@ -488,23 +483,6 @@ class SparseBackend(CorrelatorBackend):
         hp = m_uc @ err["h_sig"] @ m_uc.T + rel * p + (
             8 * math.sqrt(core.size) * EPS * err["w_sum"] * max(1.0, m_norm ** 2)) * np.eye(ui.size)
         return x, p, x_err, p_err, hx, hp
-
-
-def _bisection_order(points):
-    """An order of ``points`` (m, d) in which every run of consecutive points is compact:
-    recursive bisection at the median of the widest coordinate."""
-    points = np.asarray(points, dtype=float)
-
-    def split(ix):
-        if ix.size <= 1:
-            return ix
-        pts = points[ix]
-        axis = int(np.argmax(np.ptp(pts, axis=0)))
-        ix = ix[np.argsort(pts[:, axis], kind="stable")]
-        half = ix.size // 2
-        return np.concatenate([split(ix[:half]), split(ix[half:])])
-
-    return split(np.arange(points.shape[0]))
 
 
 def _norm2_bound(a):
