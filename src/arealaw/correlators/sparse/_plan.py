@@ -149,7 +149,7 @@ def column_blocks(n_rhs, block_size, points=None):
     >>> t = np.linspace(0, 2 * np.pi, 8, endpoint=False)
     >>> ring = np.stack([np.cos(t), np.sin(t)], axis=1)
     >>> [sorted(b.tolist()) for b in column_blocks(8, 4, ring)]  # two half rings
-    [[0, 1, 6, 7], [2, 3, 4, 5]]
+    [[3, 4, 5, 6], [0, 1, 2, 7]]
     >>> [b.tolist() for b in column_blocks(5, 2)]
     [[0, 1], [2, 3], [4]]
     """
