@@ -356,7 +356,9 @@ def pencil_interval(v, m=None, *, seed=0):
     info : dict
         ``method`` (which proof gave lo), ``proof`` (its scaling vector: ``'eigenvector'`` or
         ``'inverse-iteration'``; or the shift of the factorisation) and the raw estimates
-        (``lambda_min``: the LOBPCG estimate λ̃, ``residual``, ``proven_over_estimate``: lo/λ̃).
+        (``lambda_min``: the LOBPCG estimate λ̃, ``residual``, ``proven_over_estimate``: lo/λ̃);
+        for a non-diagonal M also ``kinetic_interval``, proven bounds (m_lo, m_hi) on its
+        spectrum.
 
     Raises
     ------
@@ -382,12 +384,15 @@ def _interval(v, m, seed, name):
         if lam[0] <= 64 * n * EPS * scale:
             raise _not_pd(lam[0], name)
         pad = 1e-8 + 64 * n * EPS * scale / lam[0]
-        return (float(lam[0] * (1 - pad)), float(lam[-1] * (1 + pad)),
-                {"method": "dense", "lambda_min": float(lam[0]), "lambda_max": float(lam[-1])})
+        info = {"method": "dense", "lambda_min": float(lam[0]), "lambda_max": float(lam[-1])}
+        if m is not None and not is_diagonal(m):
+            info["kinetic_interval"] = _interval(m, None, seed, "kinetic M")[:2]
+        return float(lam[0] * (1 - pad)), float(lam[-1] * (1 + pad)), info
     rng = np.random.default_rng(seed)
     v, e_v = _symmetric(v)
     g_lo, g_hi = gershgorin(v)
     e_m = 0.0
+    kinetic = {}  # M's own bounds, reported for a non-diagonal M (the solves need them too)
     if m is None:
         m_lo, m_hi, weights = 1.0, 1.0, None
     elif is_diagonal(m):
@@ -401,17 +406,18 @@ def _interval(v, m, seed, name):
         m_lo, m_hi = m_lo - e_m, m_hi + e_m  # of M as given (Weyl)
         if m_lo <= 0:
             raise _not_pd(m_lo, "kinetic M")
+        kinetic = {"kinetic_interval": (m_lo, m_hi)}
     g_lo, g_hi = g_lo - e_v, g_hi + e_v  # for V as given, not its symmetrised copy
     if m is not None:
         g_lo, g_hi = g_lo / m_hi if g_lo > 0 else g_lo, g_hi / m_lo
     if g_lo > 0:  # Gershgorin already proves definiteness, and its bound is rigorous
-        return g_lo, g_hi, {"method": "gershgorin", "gershgorin": (g_lo, g_hi)}
+        return g_lo, g_hi, {"method": "gershgorin", "gershgorin": (g_lo, g_hi), **kinetic}
     d_min = float(np.min(v.diagonal()))
     if d_min <= 0:
         raise _not_pd(d_min, name)  # e_iᵀ V e_i ≤ 0: a Rayleigh quotient of the pencil ≤ 0
     lo, info = _proven_lower(_Pencil(v, weights, m_lo, m_hi, e_v, e_m, name), rng)
     info["gershgorin"] = (g_lo, g_hi)
-    return lo, g_hi, info
+    return lo, g_hi, {**info, **kinetic}
 
 
 def is_diagonal(m):

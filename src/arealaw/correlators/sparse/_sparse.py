@@ -213,7 +213,7 @@ class SparseBackend(CorrelatorBackend):
             prep = _Pencil(diag=True, a=a, d=d, lo=lo, hi=hi, interval=info)
         else:
             lo, hi, info = pencil_interval(v, m)
-            m_lo, m_hi, _ = pencil_interval(m)
+            m_lo, m_hi = info["kinetic_interval"]  # proven with the pencil's, not again
             prep = _Pencil(diag=False, a=v, m=m, lo=lo, hi=hi, m_lo=m_lo, m_hi=m_hi,
                            interval=info)
         self._cache = (weakref.ref(network), prep)
