@@ -13,9 +13,9 @@ from arealaw import (ConvergenceError, OscillatorNetwork, ball, box, entropy,
 from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_correlators,
                                  get_backend)
 from arealaw.correlators.sparse._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
-from arealaw.correlators.sparse._kernels import (UNREACHED, csr_block_product,
-                                                  direction_update, hop_distance,
-                                                  residual_update)
+from arealaw.correlators.sparse._kernels import (UNREACHED, compact_columns, csr_block_product,
+                                                 direction_update, hop_distance, residual_update,
+                                                 rows_within)
 from arealaw.correlators.sparse._shifted import amg_shifted_cg, multishift_cg
 
 
@@ -281,6 +281,51 @@ def test_light_cone_rows_change_no_number():
     dense = a.toarray()
     for j, s in enumerate(shifts):
         exact = np.linalg.solve(dense + s * np.eye(a.shape[0]), f)[keep]
+        assert_allclose(z[j], exact, atol=1e-10)
+
+
+def test_column_compaction_in_place_matches_numpy():
+    # multishift_cg drops finished columns by moving the others to the front of the same
+    # storage; against numpy's column selection (a copy), on blocks that vanish beyond a light
+    # cone (random hop distances, some rows unreached) and with every count of kept columns.
+    rng = np.random.default_rng(7)
+    n, b = 41, 6
+    for level in (0, 2, 5):
+        hops = rng.integers(0, 8, n).astype(np.int32)
+        hops[::9] = UNREACHED
+        block = rng.standard_normal((n, b))
+        block[hops > level] = 0.0
+        for m in range(1, b + 1):
+            kept = np.sort(rng.choice(b, m, replace=False))
+            flat = block.copy().reshape(-1)
+            compact_columns(flat, n, b, kept, hops, level)
+            assert np.array_equal(flat[:n * m].reshape(n, m), block[:, kept])
+    buffer = np.empty(n, dtype=np.int64)
+    count = rows_within(hops, 3, buffer)
+    assert np.array_equal(buffer[:count], np.flatnonzero(hops <= 3))
+
+
+def test_columns_finishing_apart_keep_their_numbers():
+    # A column on a site that nothing couples to converges in one iteration and is dropped
+    # while two columns on the lattice run on inside their light cones (in-place compaction of
+    # r and p): each column's numbers are those of its own run, up to rounding, and the dense
+    # solves'.
+    lattice = hypercubic((30, 30), mass=0.2, mass_disorder=0.5, seed=3).potential
+    a = sp.block_diag([lattice, sp.identity(1) * 2.0]).tocsr()
+    n = a.shape[0]
+    f = np.zeros((n, 3))
+    f[n - 1, 0] = 1.0
+    f[31, 1] = 1.0
+    f[[465, 466], 2] = [1.0, -2.0]
+    keep = np.array([0, 31, 465, n - 1])
+    shifts = np.array([0.0, 0.7, 5.0])
+    z, resid, iters = multishift_cg(a, f, shifts, keep, rtol=1e-12, maxiter=500)
+    for c in range(3):
+        alone, _, _ = multishift_cg(a, f[:, [c]], shifts, keep, rtol=1e-12, maxiter=500)
+        assert_allclose(z[:, :, c], alone[:, :, 0], rtol=1e-13, atol=1e-15)
+    dense = a.toarray()
+    for j, s in enumerate(shifts):
+        exact = np.linalg.solve(dense + s * np.eye(n), f)[keep]
         assert_allclose(z[j], exact, atol=1e-10)
 
 

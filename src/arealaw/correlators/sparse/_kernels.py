@@ -19,8 +19,8 @@ rounding, and on a large lattice the early iterations touch a small ball around 
 import numba
 import numpy as np
 
-__all__ = ["csr_block_product", "direction_update", "hop_distance", "nonzero_rows",
-           "residual_update"]
+__all__ = ["compact_columns", "csr_block_product", "direction_update", "hop_distance",
+           "nonzero_rows", "residual_update", "rows_within"]
 
 #: Hop distance of a row that no source reaches.
 UNREACHED = np.iinfo(np.int32).max
@@ -114,3 +114,44 @@ def nonzero_rows(a):  # pragma: no cover (compiled)
                 hit[i] = True
                 break
     return np.flatnonzero(hit)
+
+
+@numba.njit(cache=True, nogil=True)
+def rows_within(hops, level, out):  # pragma: no cover (compiled)
+    """Write the rows with ``hops <= level`` to ``out`` in ascending order; return their count.
+
+    ``out`` (length n) is allocated once per solve: a fresh index array every iteration would
+    cost a page fault per 4 KiB of it.
+    """
+    count = 0
+    for i in range(hops.size):
+        if hops[i] <= level:
+            out[count] = i
+            count += 1
+    return count
+
+
+@numba.njit(cache=True, nogil=True)
+def compact_columns(flat, n, b, kept, hops, level):  # pragma: no cover (compiled)
+    """In place, the C-ordered (n, b) block held in ``flat[:n*b]`` becomes the (n, m) block of
+    its columns ``kept`` (ascending, m of them) in ``flat[:n*m]``.
+
+    The block must vanish on the rows with ``hops > level``, and so does the result.  A write
+    at i*m + j never lands on an entry still to be read (those sit at i'*b + kept[j'] > i*m + j),
+    so no second buffer is needed; an unreached row is written (zeros) only where the old
+    layout held a reached row's entries, so pages no Krylov vector reached stay untouched.
+    """
+    m = kept.size
+    for i in range(n):
+        if hops[i] <= level:
+            for j in range(m):
+                flat[i * m + j] = flat[i * b + kept[j]]
+        else:
+            dirty = False
+            for k in range((i * m) // b, (i * m + m - 1) // b + 1):
+                if hops[k] <= level:
+                    dirty = True
+                    break
+            if dirty:
+                for j in range(m):
+                    flat[i * m + j] = 0.0
