@@ -433,13 +433,14 @@ def test_block_plan_counts_the_matrices_and_refuses_up_front(monkeypatch):
     n, nnz, cols = 215 ** 3, 7 * 215 ** 3, 354
     for avail in (16e9, 64e9):
         monkeypatch.setattr(_plan, "available_bytes", lambda a=avail: a)
-        bs, jobs, peak = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2)
-        assert jobs == 2 and 1 <= bs <= 32 and peak <= _plan.BLOCK_MEMORY_SHARE * avail
+        sizes, jobs, peak = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2)
+        bs = max(sizes)
+        assert sum(sizes) == cols and jobs == 2 and 1 <= bs <= 32 and peak <= _plan.BLOCK_MEMORY_SHARE * avail
         assert peak >= 3 * _plan.BYTES_PER_NONZERO * nnz + _plan.BYTES_PER_ENTRY * n * bs * 2
     monkeypatch.setattr(_plan, "available_bytes", lambda: 4e9)
-    bs, jobs, peak = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2)
-    assert (bs, jobs) == (1, 1) and peak > 2e9
-    bs, jobs, _ = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2, may_reduce=False)
+    sizes, jobs, peak = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2)
+    assert (max(sizes), jobs) == (1, 1) and peak > 2e9
+    _, jobs, _ = _plan.block_plan(n, cols, nnz, block_size=32, n_jobs=2, may_reduce=False)
     assert jobs == 2  # a count the caller asked for is kept (and refused if it does not fit)
     monkeypatch.setattr(_numerics, "available_bytes", lambda: 4e9)
     net = hypercubic((215, 215, 215), mass=0.3, mass_disorder=0.5, seed=1)
@@ -448,13 +449,25 @@ def test_block_plan_counts_the_matrices_and_refuses_up_front(monkeypatch):
     assert net.is_deferred
 
 
+def test_block_sizes_cover_the_columns_within_the_cap():
+    # every column once, no block above the cap, whole SIMD lanes when the blocks are large
+    from arealaw.correlators.sparse._plan import LANES, block_sizes
+    for n_rhs in range(1, 300, 7):
+        for cap in (1, 5, 8, 29, 32, 64):
+            for jobs in (1, 2, 3):
+                sizes = block_sizes(n_rhs, cap, jobs)
+                assert sum(sizes) == n_rhs and min(sizes) >= 1 and max(sizes) <= cap
+                if cap % LANES == 0 and n_rhs >= 2 * LANES * len(sizes) and len(sizes) > 1:
+                    assert all(s % LANES == 0 for s in sizes[:-1])
+
+
 def test_blocks_of_columns_are_compact_patches():
     # The multishift blocks take boundary columns in bisection order: every block is a compact
     # patch, and the result does not depend on the order (same S as one block of every column).
     from arealaw.correlators.sparse._plan import column_blocks
     t = np.linspace(0, 2 * np.pi, 64, endpoint=False)
     ring = np.stack([np.cos(t), np.sin(t)], axis=1)
-    blocks = column_blocks(64, 8, ring)
+    blocks = column_blocks([8] * 8, ring)
     assert sorted(np.concatenate(blocks).tolist()) == list(range(64))
     for block in blocks:  # each run of 8 is 8 neighbours along the ring
         members = set(block.tolist())

@@ -17,9 +17,9 @@ from ..._numerics import available_bytes
 from ._contour import hht_node_count
 from ._interval import is_diagonal
 
-__all__ = ["BLOCK_MEMORY_SHARE", "BYTES_PER_ENTRY", "BYTES_PER_NONZERO", "block_plan",
-           "column_blocks", "engine_seconds", "has_diagonal_m", "light_cone_share", "problem_size",
-           "site_coords"]
+__all__ = ["BLOCK_MEMORY_SHARE", "BYTES_PER_ENTRY", "BYTES_PER_NONZERO", "LANES", "block_plan",
+           "block_sizes", "column_blocks", "engine_seconds", "has_diagonal_m", "light_cone_share",
+           "problem_size", "site_coords"]
 
 #: Bytes per (row, right-hand side) of a multishift CG block: r, p, A p, the input, temporaries.
 BYTES_PER_ENTRY = 48.0
@@ -28,6 +28,10 @@ BYTES_PER_NONZERO = 12.0
 #: Share of the available memory the right-hand-side blocks and the matrices may fill together
 #: (the rest stays free for the dense core blocks, other processes and the allocator's slack).
 BLOCK_MEMORY_SHARE = 0.5
+#: Block sizes are multiples of this many columns where the plan allows: the kernels' loops over
+#: a block's columns then run on whole SIMD vectors.  Measured on the 10^6-site ball
+#: (``scripts/bench_sparse_1e6.py``), the same columns: 29 of them take as long as 32.
+LANES = 8
 
 
 def engine_seconds(nnz, n_rhs, kappa, tol, *, n_sites, ndim=3, diagonal_m=True, n_poles=None,
@@ -97,11 +101,11 @@ def light_cone_share(n_sites, region_sites, iterations, ndim=3):
 
 
 def block_plan(n, n_rhs, nnz, *, block_size=32, n_jobs=1, may_reduce=True):
-    """(block size, workers, peak bytes) of the multishift solves on ``n`` sites.
+    """(block sizes, workers, peak bytes) of the multishift solves on ``n`` sites.
 
-    Equal blocks of right-hand sides, a multiple of the workers, as large as ``block_size``
-    allows while the matrices and every worker's block fit in ``BLOCK_MEMORY_SHARE`` of the
-    available memory; then one worker (no matrix copy in shared memory) if ``may_reduce`` (the
+    Blocks of right-hand sides (:func:`block_sizes`), a multiple of the workers, as large as
+    ``block_size`` allows while the matrices and every worker's block fit in
+    ``BLOCK_MEMORY_SHARE`` of the available memory; then one worker (no matrix copy in shared memory) if ``may_reduce`` (the
     count was not asked for), then single columns, before the caller refuses on the returned
     peak.  The matrices: V, A_BB + σ₀I and the scaled A (A is
     V itself when M = I), and with worker processes A_BB once more in shared memory (joblib maps
@@ -112,8 +116,8 @@ def block_plan(n, n_rhs, nnz, *, block_size=32, n_jobs=1, may_reduce=True):
 
     Examples
     --------
-    >>> bs, jobs, peak = block_plan(10**6, 300, 7 * 10**6, block_size=32, n_jobs=1)
-    >>> bs <= 32 and jobs == 1 and peak > 12 * 7 * 10**6
+    >>> sizes, jobs, peak = block_plan(10**6, 300, 7 * 10**6, block_size=32, n_jobs=1)
+    >>> max(sizes) <= 32 and sum(sizes) == 300 and jobs == 1 and peak > 12 * 7 * 10**6
     True
     """
     matrix = BYTES_PER_NONZERO * nnz
@@ -127,15 +131,41 @@ def block_plan(n, n_rhs, nnz, *, block_size=32, n_jobs=1, may_reduce=True):
     if fit < 1 and n_jobs > 1 and may_reduce:
         n_jobs = 1  # two blocks do not fit beside the matrices: one worker, no copy in shm
         fit = int((room - solve_bytes(1, 0)) / (BYTES_PER_ENTRY * n))
-    bs = max(1, min(block_size, n_rhs, fit))
-    n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * bs))
-    bs = math.ceil(n_rhs / n_chunks)
-    peak = max(solve_bytes(n_jobs, bs), matrix * 4 + index)
-    return bs, n_jobs, peak
+    sizes = block_sizes(n_rhs, max(1, min(block_size, n_rhs, fit)), n_jobs)
+    peak = max(solve_bytes(n_jobs, max(sizes)), matrix * 4 + index)
+    return sizes, n_jobs, peak
 
 
-def column_blocks(n_rhs, block_size, points=None):
-    """Index arrays of the columns in each block of at most ``block_size``.
+def block_sizes(n_rhs, block_size, n_jobs=1):
+    """Sizes of the column blocks: a multiple of ``n_jobs`` blocks of at most ``block_size``
+    columns, each but the last a multiple of :data:`LANES` when the blocks hold two lanes or
+    more on average, else as equal as possible.
+
+    Examples
+    --------
+    >>> block_sizes(344, 32, 2)  # 12 blocks for two workers
+    [32, 32, 32, 32, 32, 32, 32, 24, 24, 24, 24, 24]
+    >>> block_sizes(344, 32, 1)
+    [32, 32, 32, 32, 32, 32, 32, 32, 32, 32, 24]
+    >>> block_sizes(60, 30, 1)
+    [24, 24, 12]
+    >>> block_sizes(10, 32, 2), block_sizes(10, 32, 1)
+    ([5, 5], [10])
+    """
+    cap = block_size - block_size % LANES if block_size >= LANES else block_size
+    n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * cap))
+    if n_chunks == 1 or n_rhs < 2 * LANES * n_chunks:
+        n_chunks = n_jobs * math.ceil(n_rhs / (n_jobs * block_size))
+        size = math.ceil(n_rhs / n_chunks)
+        return [size] * (n_rhs // size) + ([n_rhs % size] if n_rhs % size else [])
+    groups, extra = divmod(math.ceil(n_rhs / LANES), n_chunks)
+    sizes = [LANES * (groups + (k < extra)) for k in range(n_chunks)]
+    sizes[-1] -= sum(sizes) - n_rhs  # the last block gives back the columns that do not exist
+    return sizes
+
+
+def column_blocks(sizes, points=None):
+    """Index arrays of the columns in each block, of the given ``sizes`` (:func:`block_sizes`).
 
     With the sites' coordinates ``points`` (n_rhs, d), the columns are ordered by recursive
     bisection at the median of the widest coordinate, so that every block is a compact patch of
@@ -148,11 +178,12 @@ def column_blocks(n_rhs, block_size, points=None):
     --------
     >>> t = np.linspace(0, 2 * np.pi, 8, endpoint=False)
     >>> ring = np.stack([np.cos(t), np.sin(t)], axis=1)
-    >>> [sorted(b.tolist()) for b in column_blocks(8, 4, ring)]  # two half rings
+    >>> [sorted(b.tolist()) for b in column_blocks([4, 4], ring)]  # two half rings
     [[3, 4, 5, 6], [0, 1, 2, 7]]
-    >>> [b.tolist() for b in column_blocks(5, 2)]
+    >>> [b.tolist() for b in column_blocks([2, 2, 1])]
     [[0, 1], [2, 3], [4]]
     """
+    n_rhs = int(sum(sizes))
     if points is None:
         order = np.arange(n_rhs)
     else:
@@ -166,7 +197,7 @@ def column_blocks(n_rhs, block_size, points=None):
             return np.concatenate([split(ix[:ix.size // 2]), split(ix[ix.size // 2:])])
 
         order = split(np.arange(n_rhs))
-    return [order[i:i + block_size] for i in range(0, n_rhs, max(int(block_size), 1))]
+    return np.split(order, np.cumsum(sizes)[:-1])
 
 
 def problem_size(network, n_rows, kappa_guess):

@@ -146,13 +146,13 @@ class SparseBackend(CorrelatorBackend):
         seconds = (solves[engine]
                    + cost("sparse.dense_cube") * float(n_rows) ** 3
                    + cost("sparse.overhead") + cost("sparse.setup_nnz") * nnz)
-        bs, jobs, nbytes = self._block_plan(n, max(int(n_rhs), 1), nnz)
+        sizes, jobs, nbytes = self._block_plan(n, max(int(n_rhs), 1), nnz)
         nbytes += 8.0 * 3 * n_rows ** 2  # dense core blocks
         if not fits_in_memory(nbytes):
             return Assessment(False, f"needs about {format_bytes(nbytes)} for {n} sites (the "
-                                     f"matrices and blocks of {bs} right-hand sides on {jobs} "
-                                     f"workers); {format_bytes(available_bytes())} available: "
-                                     "use a smaller lattice or free memory", nbytes)
+                                     f"matrices and blocks of {max(sizes)} right-hand sides on "
+                                     f"{jobs} workers); {format_bytes(available_bytes())} "
+                                     "available: use a smaller lattice or free memory", nbytes)
         return Assessment(True, f"contour quadrature + shifted CG on {n} sites "
                                 f"(κ ≈ {kappa:.2g}, {engine} engine)", nbytes, seconds)
 
@@ -408,7 +408,7 @@ class SparseBackend(CorrelatorBackend):
         return y_cc, y_sig, err, info
 
     def _block_plan(self, n, n_rhs, nnz):
-        """(block size, workers, peak bytes) of the multishift solves: see :func:`block_plan`."""
+        """(block sizes, workers, peak bytes) of the multishift solves: see :func:`block_plan`."""
         par = current_parallelism()
         jobs = width(self.n_jobs or (-1 if nnz * n_rhs > 2e8 and n_rhs > 1 else 1))
         chosen = self.n_jobs is not None or not (par is None or par.is_automatic)
@@ -418,14 +418,15 @@ class SparseBackend(CorrelatorBackend):
     def _solve(self, engine, a_bb, m_bb, a_bj, m_bj, shifts, keep, rtol, maxiter, points=None):
         n_rhs = a_bj.shape[1]
         if engine == "multishift":
-            bs, n_jobs, nbytes = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
-            chunks = column_blocks(n_rhs, bs, points)
+            sizes, n_jobs, nbytes = self._block_plan(a_bb.shape[0], n_rhs, a_bb.nnz)
+            chunks = column_blocks(sizes, points)
             n_jobs = min(n_jobs, len(chunks))
             par = current_parallelism()
             if par is None or par.scheduler is None:
                 # local processes share this machine's memory (a cluster's workers their own)
-                require_memory(nbytes, f"multishift CG in {len(chunks)} blocks of {bs} right-hand "
-                               f"sides on {n_jobs} workers", "use a smaller lattice, free memory "
+                require_memory(nbytes, f"multishift CG in {len(chunks)} blocks of up to "
+                               f"{max(sizes)} right-hand sides on {n_jobs} workers",
+                               "use a smaller lattice, free memory "
                                "or workers=1 (--workers 1)")
             # one unit per column block: each column's recurrence is independent of the others
             # in its block, so any split (and any worker) gives the same numbers bit for bit
