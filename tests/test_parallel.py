@@ -128,6 +128,27 @@ def test_local_cluster_gives_serial_numbers(serial, cluster):
     assert set(pids) <= worker_pids and os.getpid() not in pids
 
 
+def test_cluster_of_one_worker_computes_there(serial):
+    # joblib runs a pool of one in the calling process; a cluster of one worker must still get
+    # the units (its worker may be the machine with the memory)
+    import distributed
+    with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
+                                  host="127.0.0.1", dashboard_address=":0") as cl, \
+            distributed.Client(cl) as client:
+        worker_pids = set(client.run(os.getpid).values())
+        seen = []
+        with reporting(lambda stage, done, total: seen.append((stage, done, total))), \
+                parallel_work(parallelism(scheduler=client)):
+            pids = map_units(os.getpid, [()] * 3, stage="units")
+        assert set(pids) == worker_pids and os.getpid() not in pids
+        assert seen[0] == ("units", 0, 3) and seen[-1] == ("units", 3, 3)
+        name, net, region, method = _cases()[0]  # sparse blocks: the matrix is scattered
+        with distributed.get_task_stream(client) as ts:
+            res = entropy(net, region, method=method, renyi=[2], scheduler=client)
+        assert _numbers(res) == serial[name][0]
+        assert len(ts.data) >= 4
+
+
 def test_cli_scheduler_address_and_negativity(cluster, capsys):
     # an address (not a client): connected, used and closed by the command
     net, region = _disordered()

@@ -213,10 +213,12 @@ def map_units(fn, units, *, auto=1, stage=None, batch_size=1, shared=()):
     if par is not None and par.scheduler is not None:
         from distributed import KilledWorker
         try:
+            if sum(par.scheduler.ncores().values()) == 1:
+                return _client_map(par.scheduler, fn, units, stage, shared)
             return _joblib_map(fn, units, stage, batch_size, backend="dask",
                                options={"client": par.scheduler, "scatter": list(shared),
                                         "wait_for_workers_timeout": WAIT_FOR_WORKERS},
-                               n_jobs=-1)
+                               n_jobs=-1, shared=shared)
         except TimeoutError:
             if sum(par.scheduler.ncores().values()):
                 raise
@@ -235,9 +237,49 @@ def map_units(fn, units, *, auto=1, stage=None, batch_size=1, shared=()):
     return _joblib_map(fn, units, stage, batch_size, backend="loky", options={}, n_jobs=n)
 
 
-def _joblib_map(fn, units, stage, batch_size, *, backend, options, n_jobs):
+class _SharedSlot:
+    """Stands in a unit's arguments for the ``index``-th shared argument (see :func:`_unit`)."""
+
+    __slots__ = ("index",)
+
+    def __init__(self, index):
+        self.index = index
+
+
+def _unit(fn, spec, *shared):
+    args = tuple(shared[a.index] if isinstance(a, _SharedSlot) else a for a in spec)
+    return _pinned(fn, args)
+
+
+def _specs(units, shared):
+    """The units with a :class:`_SharedSlot` in place of each shared object (by identity)."""
+    slot = {id(obj): _SharedSlot(k) for k, obj in enumerate(shared)}
+    return [tuple(slot.get(id(a), a) for a in u) for u in units]
+
+
+def _client_map(client, fn, units, stage, shared):
+    # A cluster of one worker thread, through the client itself: joblib runs the calls of a
+    # pool of one in the calling process, which is not where the user sent them (a laptop
+    # driving a cluster would compute the whole case itself).
+    from distributed import as_completed
+    held = client.scatter(list(shared), broadcast=True) if shared else []
+    futures = [client.submit(_unit, fn, spec, *held, pure=False)
+               for spec in _specs(units, shared)]
+    if stage is not None:
+        report(stage, 0, len(units))
+        for done, _ in enumerate(as_completed(futures), start=1):
+            report(stage, done, len(units))
+    return client.gather(futures)
+
+
+def _joblib_map(fn, units, stage, batch_size, *, backend, options, n_jobs, shared=()):
     import joblib
-    tasks = (joblib.delayed(_pinned)(fn, u) for u in units)
+    # The shared objects go to each call as its own top-level arguments, and the units carry
+    # slots in their place: joblib's dask backend swaps a scattered object for its future only
+    # where it is a call's argument itself, and a unit's tuple is sent whole, so before this
+    # every unit shipped the lattice's matrix again (12 x ~90 MB through the scheduler on the
+    # 10^6-site case).
+    tasks = (joblib.delayed(_unit)(fn, spec, *shared) for spec in _specs(units, shared))
     out = []
     with joblib.parallel_config(backend=backend, n_jobs=n_jobs, **options):
         results = joblib.Parallel(return_as="generator", batch_size=batch_size)(tasks)
