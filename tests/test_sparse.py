@@ -14,8 +14,8 @@ from arealaw.correlators import (IllConditionedWarning, SparseBackend, dense_cor
                                  get_backend)
 from arealaw.correlators.sparse._contour import hht_error_estimate, hht_node_count, inverse_sqrt_rule
 from arealaw.correlators.sparse._kernels import (UNREACHED, compact_columns, csr_block_product,
-                                                 direction_update, hop_distance, residual_update,
-                                                 rows_within)
+                                                 direction_update, hop_distance, merge_rows,
+                                                 residual_update, rows_by_level)
 from arealaw.correlators.sparse._shifted import amg_shifted_cg, multishift_cg
 
 
@@ -300,9 +300,14 @@ def test_column_compaction_in_place_matches_numpy():
             flat = block.copy().reshape(-1)
             compact_columns(flat, n, b, kept, hops, level)
             assert np.array_equal(flat[:n * m].reshape(n, m), block[:, kept])
-    buffer = np.empty(n, dtype=np.int64)
-    count = rows_within(hops, 3, buffer)
-    assert np.array_equal(buffer[:count], np.flatnonzero(hops <= 3))
+    order, start = rows_by_level(hops)
+    assert start.size - 2 == hops[hops != UNREACHED].max()
+    rows, out = order[start[0]:start[1]], np.empty(n, dtype=np.int64)
+    for level in range(1, start.size - 1):  # the step-by-step merges of multishift_cg
+        assert np.array_equal(order[start[level]:start[level + 1]],
+                              np.flatnonzero(hops == level))
+        rows = out[:merge_rows(rows, order[start[level]:start[level + 1]], out)].copy()
+        assert np.array_equal(rows, np.flatnonzero(hops <= level))
 
 
 def test_columns_finishing_apart_keep_their_numbers():

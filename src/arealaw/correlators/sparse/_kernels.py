@@ -20,7 +20,7 @@ import numba
 import numpy as np
 
 __all__ = ["compact_columns", "csr_block_product", "direction_update", "hop_distance",
-           "nonzero_rows", "residual_update", "rows_within"]
+           "merge_rows", "nonzero_rows", "residual_update", "rows_by_level"]
 
 #: Hop distance of a row that no source reaches.
 UNREACHED = np.iinfo(np.int32).max
@@ -117,21 +117,6 @@ def nonzero_rows(a):  # pragma: no cover (compiled)
 
 
 @numba.njit(cache=True, nogil=True)
-def rows_within(hops, level, out):  # pragma: no cover (compiled)
-    """Write the rows with ``hops <= level`` to ``out`` in ascending order; return their count.
-
-    ``out`` (length n) is allocated once per solve: a fresh index array every iteration would
-    cost a page fault per 4 KiB of it.
-    """
-    count = 0
-    for i in range(hops.size):
-        if hops[i] <= level:
-            out[count] = i
-            count += 1
-    return count
-
-
-@numba.njit(cache=True, nogil=True)
 def compact_columns(flat, n, b, kept, hops, level):  # pragma: no cover (compiled)
     """In place, the C-ordered (n, b) block held in ``flat[:n*b]`` becomes the (n, m) block of
     its columns ``kept`` (ascending, m of them) in ``flat[:n*m]``.
@@ -155,3 +140,53 @@ def compact_columns(flat, n, b, kept, hops, level):  # pragma: no cover (compile
             if dirty:
                 for j in range(m):
                     flat[i * m + j] = 0.0
+
+
+@numba.njit(cache=True, nogil=True)
+def rows_by_level(hops):  # pragma: no cover (compiled)
+    """The reached rows grouped by hop level, ascending within each (a counting sort): level
+    k's rows are ``order[start[k]:start[k + 1]]``, and the deepest level is ``start.size - 2``.
+    Two passes over the n rows per solve, so that each step adds its new level in time
+    proportional to the rows reached (:func:`merge_rows`) instead of scanning all n rows."""
+    reach = 0
+    for i in range(hops.size):
+        if hops[i] != UNREACHED and hops[i] > reach:
+            reach = hops[i]
+    start = np.zeros(reach + 2, dtype=np.int64)
+    for i in range(hops.size):
+        if hops[i] <= reach:
+            start[hops[i] + 1] += 1
+    for k in range(reach + 1):
+        start[k + 1] += start[k]
+    order = np.empty(start[reach + 1], dtype=np.int64)
+    fill = start[:reach + 1].copy()
+    for i in range(hops.size):
+        h = hops[i]
+        if h <= reach:
+            order[fill[h]] = i
+            fill[h] += 1
+    return order, start
+
+
+@numba.njit(cache=True, nogil=True)
+def merge_rows(current, new, out):  # pragma: no cover (compiled)
+    """Write the union of the ascending, disjoint row lists ``current`` and ``new`` to ``out``
+    in ascending order; return its length."""
+    i = j = k = 0
+    while i < current.size and j < new.size:
+        if current[i] < new[j]:
+            out[k] = current[i]
+            i += 1
+        else:
+            out[k] = new[j]
+            j += 1
+        k += 1
+    while i < current.size:
+        out[k] = current[i]
+        i += 1
+        k += 1
+    while j < new.size:
+        out[k] = new[j]
+        j += 1
+        k += 1
+    return k
